@@ -5,5 +5,8 @@ module.exports = {
   ...createCjsPreset({ tsconfig: '<rootDir>/tsconfig.spec.json' }),
   roots: ['<rootDir>/src'],
   setupFilesAfterEnv: ['<rootDir>/src/setup-jest.ts'],
-  moduleNameMapper: { '^(\\.{1,2}/.*)\\.js$': '$1' },
+  moduleNameMapper: {
+    '^@shared/(.*?)(\\.js)?$': '<rootDir>/shared/$1',
+    '^(\\.{1,2}/.*)\\.js$': '$1',
+  },
 };

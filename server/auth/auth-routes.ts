@@ -37,6 +37,7 @@ export function authRoutes(deps: {
     summary: 'Start signing in through the identity provider (redirect)',
     access: { kind: 'public' },
     query: z.object({ returnTo: z.string().optional() }),
+    successStatus: 303,
     responseDescription: 'Redirect to the identity provider',
     handler: async ({ res, query }) => {
       const signIn = await relyingParty.beginSignIn();
@@ -58,6 +59,7 @@ export function authRoutes(deps: {
     summary: 'Return from the identity provider; opens a session (redirect)',
     access: { kind: 'public' },
     query: z.object({ state: z.string().optional(), code: z.string().optional(), error: z.string().optional() }),
+    successStatus: 303,
     responseDescription: 'Redirect into the app, or to the sign-in page with the reason',
     handler: async ({ req, res, query }) => {
       const toSignIn = (code: string, message: string) =>

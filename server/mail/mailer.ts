@@ -1,4 +1,4 @@
-import nodemailer, { type Transporter } from 'nodemailer';
+import nodemailer, { type Transporter, type TransportOptions } from 'nodemailer';
 
 /** Outgoing e-mail through any SMTP server (the local catcher or a real relay). */
 export class Mailer {
@@ -10,8 +10,11 @@ export class Mailer {
   ) {
     const url = new URL(smtpUrl);
     const isLoopback = ['127.0.0.1', 'localhost', '[::1]'].includes(url.hostname);
-    // The loopback catcher speaks plain SMTP; a real relay is expected to offer TLS.
-    this.transport = nodemailer.createTransport(smtpUrl, isLoopback ? { ignoreTLS: true, secure: false } : {});
+    // The loopback catcher speaks plain SMTP; a real relay (smtps:// or STARTTLS) is expected to offer TLS.
+    this.transport = nodemailer.createTransport({
+      url: smtpUrl,
+      ...(isLoopback ? { ignoreTLS: true, secure: false } : {}),
+    } as TransportOptions);
   }
 
   async ping(): Promise<void> {

@@ -1,0 +1,130 @@
+import { randomUUID } from 'node:crypto';
+import fs from 'node:fs';
+import path from 'node:path';
+import cookieParser from 'cookie-parser';
+import express, { type Express } from 'express';
+import { rateLimit } from 'express-rate-limit';
+import helmet from 'helmet';
+import type { Logger } from 'pino';
+import { pinoHttp } from 'pino-http';
+import { AuthRepository } from './auth/auth-repository.js';
+import { authRoutes } from './auth/auth-routes.js';
+import { AuthService } from './auth/auth-service.js';
+import type { OidcRelyingParty } from './auth/oidc-relying-party.js';
+import type { AppConfig } from './config.js';
+import { pingDatabase, type TidemarkDatabase } from './db/database.js';
+import { healthRoutes } from './health/health-routes.js';
+import { HealthService } from './health/health-service.js';
+import { ApiRouteRegistry } from './http/api-route.js';
+import { authenticate, requireCsrfToken } from './http/authenticate.js';
+import { apiNotFound, errorHandler } from './http/error-handler.js';
+import type { Mailer } from './mail/mailer.js';
+import type { ObjectStorage } from './storage/object-storage.js';
+import { StudyRepository } from './studies/study-repository.js';
+import { studyRoutes } from './studies/study-routes.js';
+import { StudyService } from './studies/study-service.js';
+import { UserRepository } from './users/user-repository.js';
+
+export const APP_VERSION = '0.1.0';
+
+/** Everything the app talks to, so tests can hand in real fakes on loopback. */
+export interface AppDependencies {
+  readonly config: AppConfig;
+  readonly db: TidemarkDatabase;
+  readonly storage: ObjectStorage;
+  readonly mailer: Mailer;
+  readonly relyingParty: OidcRelyingParty;
+  readonly logger: Logger;
+  readonly clock?: () => Date;
+}
+
+/** Wires the Express app; listening is the caller's business. */
+export function createApp(deps: AppDependencies): { app: Express; registry: ApiRouteRegistry } {
+  const { config, db, storage, mailer, relyingParty, logger } = deps;
+  const clock = deps.clock ?? (() => new Date());
+  const users = new UserRepository(db);
+  const auth = new AuthService(new AuthRepository(db), users, config.session, clock);
+  const studies = new StudyService(new StudyRepository(db));
+  const health = new HealthService(
+    {
+      database: () => pingDatabase(db),
+      storage: () => storage.ping(),
+      identityProvider: () => relyingParty.ping(),
+      mail: () => mailer.ping(),
+    },
+    APP_VERSION,
+  );
+  const registry = new ApiRouteRegistry();
+
+  const app = express();
+  app.disable('x-powered-by');
+  app.set('trust proxy', 'loopback');
+  app.use(
+    pinoHttp({
+      logger,
+      genReqId: (req, res) => {
+        const incoming = req.headers['x-request-id'];
+        const id = typeof incoming === 'string' && /^[\w-]{1,64}$/.test(incoming) ? incoming : randomUUID();
+        res.setHeader('x-request-id', id);
+        return id;
+      },
+      autoLogging: { ignore: (req) => req.url === '/api/health' },
+    }),
+  );
+  app.use(
+    helmet({
+      contentSecurityPolicy: {
+        directives: {
+          defaultSrc: ["'self'"],
+          scriptSrc: ["'self'"],
+          // Angular Material and plotly set style attributes at run time.
+          styleSrc: ["'self'", "'unsafe-inline'"],
+          imgSrc: ["'self'", 'data:', 'blob:'],
+          fontSrc: ["'self'", 'data:'],
+          connectSrc: ["'self'"],
+          objectSrc: ["'none'"],
+          frameAncestors: ["'none'"],
+          formAction: ["'self'", ...(config.identity.issuer ? [new URL(config.identity.issuer).origin] : [])],
+          upgradeInsecureRequests: config.session.secureCookies ? [] : null,
+        },
+      },
+      strictTransportSecurity: config.session.secureCookies,
+    }),
+  );
+  app.use(cookieParser());
+  app.use(express.json({ limit: '2mb' }));
+  app.use('/auth/login', rateLimit({ windowMs: 60_000, limit: 30, standardHeaders: 'draft-8', legacyHeaders: false }));
+  app.use(authenticate(auth));
+  app.use(requireCsrfToken);
+
+  app.use(
+    authRoutes({
+      registry,
+      auth,
+      relyingParty,
+      publicUrl: config.publicUrl,
+      secureCookies: config.session.secureCookies,
+    }),
+  );
+  app.use(healthRoutes(registry, health, APP_VERSION));
+  app.use(studyRoutes(registry, studies));
+  app.use(['/api', '/auth'], apiNotFound);
+
+  serveWebClient(app, config.webDir);
+  app.use(errorHandler);
+  return { app, registry };
+}
+
+/** Serves the built Angular app, with every other GET falling back to its index page. */
+function serveWebClient(app: Express, webDir: string): void {
+  const indexFile = path.join(webDir, 'index.html');
+  app.use(express.static(webDir, { index: false, maxAge: '1h' }));
+  app.get('/{*spa}', (_req, res) => {
+    if (!fs.existsSync(indexFile)) {
+      res.status(503).type('text/plain').send('The web client is not built yet: run `npm run build`.');
+      return;
+    }
+    res.setHeader('Cache-Control', 'no-cache');
+    res.sendFile(indexFile);
+  });
+}

@@ -1,0 +1,109 @@
+import http from 'node:http';
+import type { AddressInfo } from 'node:net';
+import path from 'node:path';
+import type { Express } from 'express';
+import { pino, type Logger } from 'pino';
+import { startStorageFake, type StorageFake } from '../storage-fake/s3-fake.js';
+import { createApp, type AppDependencies } from './app.js';
+import { OidcRelyingParty } from './auth/oidc-relying-party.js';
+import type { AppConfig } from './config.js';
+import { openDatabase } from './db/database.js';
+import { startFakeIdentityProvider, type FakeIdentityProvider } from './dev-fakes/identity-provider.js';
+import { startMailCatcher, type MailCatcher } from './dev-fakes/mail-catcher.js';
+import { Mailer } from './mail/mailer.js';
+import { seedDemoStudy } from './seed/demo-seed.js';
+import { DEMO_PASSWORD, DEMO_USERS } from './seed/demo-study.js';
+import { ObjectStorage } from './storage/object-storage.js';
+
+/** A running Tidemark: the app on loopback plus whichever local fakes the configuration asked for. */
+export interface RunningTidemark {
+  readonly url: string;
+  readonly app: Express;
+  readonly deps: AppDependencies;
+  readonly fakes: { identity?: FakeIdentityProvider; storage?: StorageFake; mail?: MailCatcher };
+  close(): Promise<void>;
+}
+
+/**
+ * Starts Tidemark the same way for `npm start` and for tests: every service whose URL
+ * is not configured is replaced by its local fake on loopback.
+ */
+export async function startTidemark(
+  config: AppConfig,
+  options: { logger?: Logger; clock?: () => Date } = {},
+): Promise<RunningTidemark> {
+  const logger = options.logger ?? pino({ level: config.logLevel });
+  const server = http.createServer();
+  await new Promise<void>((resolve) => server.listen(config.port, config.host, resolve));
+  const port = (server.address() as AddressInfo).port;
+  if (config.port === 0 || !process.env['PUBLIC_URL']) config.publicUrl = `http://${config.host}:${port}`;
+
+  const fakes: RunningTidemark['fakes'] = {};
+  const closers: (() => Promise<void> | void)[] = [
+    () =>
+      new Promise<void>((resolve) => {
+        server.closeAllConnections();
+        server.close(() => resolve());
+      }),
+  ];
+  try {
+    if (!config.storage.endpoint) {
+      fakes.storage = await startStorageFake({
+        port: config.storage.fakePort,
+        directory: path.join(config.dataDir, 'storage'),
+        bucket: config.storage.bucket,
+      });
+      closers.push(() => fakes.storage!.close());
+      config.storage.endpoint = fakes.storage.endpoint;
+    }
+    if (!config.identity.issuer) {
+      fakes.identity = await startFakeIdentityProvider({
+        port: config.identity.fakePort,
+        accounts: DEMO_USERS.map((user) => ({ email: user.email, name: user.name, password: DEMO_PASSWORD })),
+        client: {
+          clientId: config.identity.clientId,
+          clientSecret: config.identity.clientSecret,
+          redirectUris: [`${config.publicUrl}/auth/callback`],
+        },
+      });
+      closers.push(() => fakes.identity!.close());
+      config.identity.issuer = fakes.identity.issuer;
+    }
+    if (!config.mail.smtpUrl) {
+      fakes.mail = await startMailCatcher({ port: config.mail.fakePort, folder: path.join(config.dataDir, 'mail') });
+      closers.push(() => fakes.mail!.close());
+      config.mail.smtpUrl = fakes.mail.smtpUrl;
+    }
+
+    const db = openDatabase(config.databaseFile);
+    closers.push(() => {
+      db.$client.close();
+    });
+    if (config.seedDemo && seedDemoStudy(db)) logger.info('seeded the demo study');
+
+    const storage = new ObjectStorage(config.storage);
+    closers.push(() => storage.destroy());
+    const mailer = new Mailer(config.mail.smtpUrl, config.mail.from);
+    closers.push(() => mailer.close());
+    const relyingParty = new OidcRelyingParty(
+      { ...config.identity, issuer: config.identity.issuer },
+      `${config.publicUrl}/auth/callback`,
+    );
+    const deps: AppDependencies = { config, db, storage, mailer, relyingParty, logger, clock: options.clock };
+    const { app } = createApp(deps);
+    server.on('request', app);
+
+    return {
+      url: config.publicUrl,
+      app,
+      deps,
+      fakes,
+      close: async () => {
+        for (const close of closers.reverse()) await close();
+      },
+    };
+  } catch (error) {
+    for (const close of closers.reverse()) await close();
+    throw error;
+  }
+}

@@ -1,0 +1,20 @@
+import { ChangeDetectionStrategy, Component, computed, inject } from '@angular/core';
+
+import { AuthSession } from '../../core/auth/auth-session';
+import { ROLE_LABELS } from '../../core/auth/role-labels';
+import { AreaWelcome } from '../../ui/area-welcome/area-welcome';
+
+/** Home of the Data office area: what a data manager does here, and in which studies. */
+@Component({
+  selector: 'app-data-office-home',
+  imports: [AreaWelcome],
+  templateUrl: './data-office-home.html',
+  styleUrl: './data-office-home.scss',
+  changeDetection: ChangeDetectionStrategy.OnPush,
+})
+export class DataOfficeHome {
+  private readonly session = inject(AuthSession);
+
+  protected readonly roleLabel = ROLE_LABELS['data-manager'];
+  protected readonly assignments = computed(() => this.session.assignmentsFor('data-manager'));
+}
