@@ -26,7 +26,8 @@ export function readDelimitedTable(text: string, file: string): DelimitedTable {
   const delimiter = firstLine.includes(';') ? ';' : ',';
   let records: { record: string[]; info: { lines: number } }[];
   try {
-    records = parse(text, { delimiter, bom: true, trim: true, relax_column_count: true, info: true, skip_empty_lines: true });
+    // With `info: true` csv-parse returns { record, info } objects; its typings do not express that.
+    records = parse(text, { delimiter, bom: true, trim: true, relax_column_count: true, info: true, skip_empty_lines: true }) as unknown as typeof records;
   } catch (error) {
     throw new SpirometryInputError('reference-csv', `${file} cannot be read as CSV: ${(error as Error).message}`, { file });
   }

@@ -19,6 +19,7 @@ import { MatToolbar } from '@angular/material/toolbar';
 import { Router, RouterLink, RouterLinkActive, RouterOutlet } from '@angular/router';
 import { map } from 'rxjs';
 
+import type { Role } from '@shared/contracts/auth';
 import { ApiError } from '../http/api-error';
 import { AuthSession } from '../auth/auth-session';
 import { ROLE_LABELS } from '../auth/role-labels';
@@ -63,7 +64,7 @@ export class AppShell {
   /** Only the areas the user holds a role for, in catalogue order. */
   protected readonly areas = computed(() => APP_AREAS.filter((area) => this.session.hasRole(area.role)));
   protected readonly roleLabels = computed(() =>
-    APP_AREAS.filter((area) => this.session.hasRole(area.role)).map((area) => ROLE_LABELS[area.role]),
+    (Object.keys(ROLE_LABELS) as Role[]).filter((role) => this.session.hasRole(role)).map((role) => ROLE_LABELS[role]),
   );
   /** Whether the screen is narrow enough to hide the navigation in a drawer. */
   protected readonly isNarrow = toSignal(
