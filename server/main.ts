@@ -1,3 +1,6 @@
+// The AWS SDK version is pinned; its notice about future Node requirements does not apply to it.
+process.env['AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED'] ??= 'true';
+
 import { loadConfig } from './config.js';
 import { startTidemark } from './runtime.js';
 import { DEMO_PASSWORD, DEMO_USERS } from './seed/demo-study.js';

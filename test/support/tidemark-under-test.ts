@@ -6,6 +6,9 @@ import { loadConfig } from '../../server/config.js';
 import { startTidemark, type RunningTidemark } from '../../server/runtime.js';
 import { DEMO_PASSWORD } from '../../server/seed/demo-study.js';
 
+// The AWS SDK version is pinned, so its notice about future Node requirements is noise here.
+process.env['AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED'] ??= 'true';
+
 /** Starts the real app with real local fakes on loopback ports chosen by the OS, in a throw-away data folder. */
 export async function startTidemarkForTest(
   env: Record<string, string> = {},

@@ -1,0 +1,350 @@
+/**
+ * `npm run --silent analyze -- [options] FILE...`: analyses the given efforts as one
+ * session and prints one JSON object on stdout (formats.md, "The analysis command").
+ * Each FILE is an effort CSV, or there is one session file: a Tidemark session JSON,
+ * a FHIR R4 Bundle, or a .zip of effort CSVs with an optional session.json.
+ * Errors: one line on stderr, exit code 1 (bad input) or 2 (bad command line).
+ */
+import { readFileSync, statSync } from 'node:fs';
+import path from 'node:path';
+import { parseArgs } from 'node:util';
+import { loadConfig } from '../config.js';
+import { ProtocolCatalogueError, loadProtocol } from '../protocols/protocol-catalogue.js';
+import { DEFAULT_EFFORT_CSV_OPTIONS, parseEffortCsv } from '../../shared/spirometry/effort-csv.js';
+import type { Demographics, Ethnicity, EquationsId, PredictedValue, Recording } from '../../shared/spirometry/model.js';
+import { SpirometryInputError } from '../../shared/spirometry/model.js';
+import type { ResolvedProtocol } from '../../shared/spirometry/protocol.js';
+import type { ReferenceEquations } from '../../shared/spirometry/reference/reference-equations.js';
+import { analyzeSession, type SessionAnalysis } from '../../shared/spirometry/session-analysis.js';
+import { parseFhirBundle } from '../../shared/spirometry/fhir-bundle.js';
+import { parseSessionDocument, sessionDocumentToRecordings } from '../../shared/spirometry/session-document.js';
+
+/** A command-line mistake: exit code 2. */
+class UsageError extends Error {}
+
+/** Largest input file read (bytes); more is certainly not one session. */
+const MAX_FILE_BYTES = 200 * 1024 * 1024;
+
+const ETHNICITIES: readonly Ethnicity[] = ['caucasian', 'african-american', 'north-east-asian', 'south-east-asian', 'other', 'mexican-american'];
+const EQUATIONS: readonly EquationsId[] = ['gli-global-2022', 'gli-2012', 'nhanes3', 'ecsc-1993'];
+
+interface Inputs {
+  readonly recordings: Recording[];
+  /** Demographics the session file carries, overridden by the command line. */
+  readonly demographics: Partial<Demographics>;
+}
+
+function readInputFile(file: string): Buffer {
+  let size: number;
+  try {
+    size = statSync(file).size;
+  } catch {
+    throw new SpirometryInputError('file-missing', `${file}: no such file`, { file });
+  }
+  if (size > MAX_FILE_BYTES) {
+    throw new SpirometryInputError('file-too-large', `${file}: ${size} bytes is more than the ${MAX_FILE_BYTES} accepted`, { file });
+  }
+  return readFileSync(file);
+}
+
+function decodeUtf8(bytes: Uint8Array, file: string): string {
+  try {
+    return new TextDecoder('utf-8', { fatal: true }).decode(bytes);
+  } catch {
+    throw new SpirometryInputError('encoding', `${file}: not UTF-8 text`, { file });
+  }
+}
+
+function parseJson(text: string, file: string): unknown {
+  try {
+    return JSON.parse(text);
+  } catch (error) {
+    throw new SpirometryInputError('json', `${file}: not valid JSON (${(error as Error).message})`, { file });
+  }
+}
+
+/** Demographics at test from a session document or session.json, whatever of them is there. */
+function demographicsIn(json: unknown): Partial<Demographics> {
+  const holder = json as { demographics?: unknown; subject?: { demographics?: unknown } } | null;
+  const found = (holder?.demographics ?? holder?.subject?.demographics) as Partial<Record<keyof Demographics, unknown>> | undefined;
+  if (!found || typeof found !== 'object') return {};
+  const result: { -readonly [K in keyof Demographics]?: Demographics[K] } = {};
+  if (typeof found.ageYears === 'number') result.ageYears = found.ageYears;
+  if (typeof found.heightCm === 'number') result.heightCm = found.heightCm;
+  if (found.sex === 'female' || found.sex === 'male') result.sex = found.sex;
+  if (typeof found.ethnicity === 'string' && (ETHNICITIES as readonly string[]).includes(found.ethnicity)) {
+    result.ethnicity = found.ethnicity as Ethnicity;
+  }
+  return result;
+}
+
+function readSessionJson(file: string, bytes: Uint8Array): Inputs {
+  const json = parseJson(decodeUtf8(bytes, file), file);
+  const isBundle = (json as { resourceType?: unknown } | null)?.resourceType === 'Bundle';
+  const document = isBundle ? parseFhirBundle(json) : parseSessionDocument(json);
+  return { recordings: sessionDocumentToRecordings(document), demographics: demographicsIn(document) };
+}
+
+/** Whether a zip entry name stays inside the archive. */
+function isSafeEntryName(name: string): boolean {
+  if (name.startsWith('/') || name.startsWith('\\') || /^[a-zA-Z]:/.test(name)) return false;
+  return !name.split(/[/\\]/).some((segment) => segment === '..');
+}
+
+async function readZip(file: string, bytes: Uint8Array, protocol: ResolvedProtocol): Promise<Inputs> {
+  const { unzipSync } = await import('fflate');
+  let entries: Record<string, Uint8Array>;
+  try {
+    entries = unzipSync(bytes);
+  } catch (error) {
+    throw new SpirometryInputError('zip', `${file}: not a readable zip archive (${(error as Error).message})`, { file });
+  }
+  const csvNames: string[] = [];
+  let sessionJson: Uint8Array | undefined;
+  for (const name of Object.keys(entries)) {
+    if (!isSafeEntryName(name)) {
+      throw new SpirometryInputError('zip-path', `${file}: entry "${name}" points outside the archive`, { file });
+    }
+    const base = path.posix.basename(name.replace(/\\/g, '/'));
+    if (name.endsWith('/') || name.startsWith('__MACOSX/') || base.startsWith('.')) continue;
+    if (base === 'session.json') sessionJson = entries[name];
+    else if (base.toLowerCase().endsWith('.csv')) csvNames.push(name);
+    else throw new SpirometryInputError('zip-entry', `${file}: entry "${name}" is neither an effort CSV nor session.json`, { file });
+  }
+  if (csvNames.length === 0) throw new SpirometryInputError('zip-empty', `${file}: the archive holds no effort CSV`, { file });
+  csvNames.sort((a, b) => (a < b ? -1 : a > b ? 1 : 0));
+  const csvOptions = { ...DEFAULT_EFFORT_CSV_OPTIONS, minSampleRateHz: protocol.engine.minSampleRateHz };
+  const recordings = csvNames.map((name) => parseEffortCsv(decodeUtf8(entries[name], name), name, csvOptions));
+  const demographics = sessionJson ? demographicsIn(parseJson(decodeUtf8(sessionJson, 'session.json'), 'session.json')) : {};
+  return { recordings, demographics };
+}
+
+async function readInputs(files: readonly string[], protocol: ResolvedProtocol): Promise<Inputs> {
+  const sessionFiles = files.filter((file) => /\.(json|zip)$/i.test(file));
+  if (sessionFiles.length > 0 && files.length > 1) {
+    throw new UsageError(`give either effort CSVs or one session file, not both (${sessionFiles[0]})`);
+  }
+  if (sessionFiles.length === 1) {
+    const file = sessionFiles[0];
+    const bytes = readInputFile(file);
+    return /\.zip$/i.test(file) ? readZip(path.basename(file), bytes, protocol) : readSessionJson(path.basename(file), bytes);
+  }
+  const csvOptions = { ...DEFAULT_EFFORT_CSV_OPTIONS, minSampleRateHz: protocol.engine.minSampleRateHz };
+  const recordings = files.map((file) => parseEffortCsv(decodeUtf8(readInputFile(file), file), path.basename(file), csvOptions));
+  return { recordings, demographics: {} };
+}
+
+function positiveNumber(value: string | undefined, option: string): number | undefined {
+  if (value === undefined) return undefined;
+  const parsed = Number(value);
+  if (value.trim() === '' || !Number.isFinite(parsed) || parsed <= 0) throw new UsageError(`${option} must be a positive number, not "${value}"`);
+  return parsed;
+}
+
+interface Options {
+  readonly files: string[];
+  readonly demographics: Partial<Demographics>;
+  readonly equations?: EquationsId;
+  readonly protocolId?: string;
+  readonly referenceDir?: string;
+}
+
+function parseCommandLine(argv: string[]): Options {
+  let parsed;
+  try {
+    parsed = parseArgs({
+      args: argv,
+      allowPositionals: true,
+      strict: true,
+      options: {
+        age: { type: 'string' },
+        'height-cm': { type: 'string' },
+        sex: { type: 'string' },
+        ethnicity: { type: 'string' },
+        equations: { type: 'string' },
+        protocol: { type: 'string' },
+        'reference-dir': { type: 'string' },
+      },
+    });
+  } catch (error) {
+    throw new UsageError((error as Error).message);
+  }
+  const { values, positionals } = parsed;
+  if (positionals.length === 0) {
+    throw new UsageError('no input: give effort CSV files or one session file (.json or .zip)');
+  }
+  const demographics: { -readonly [K in keyof Demographics]?: Demographics[K] } = {};
+  const ageYears = positiveNumber(values.age, '--age');
+  if (ageYears !== undefined) demographics.ageYears = ageYears;
+  const heightCm = positiveNumber(values['height-cm'], '--height-cm');
+  if (heightCm !== undefined) demographics.heightCm = heightCm;
+  if (values.sex !== undefined) {
+    if (values.sex !== 'female' && values.sex !== 'male') throw new UsageError(`--sex must be female or male, not "${values.sex}"`);
+    demographics.sex = values.sex;
+  }
+  if (values.ethnicity !== undefined) {
+    if (!(ETHNICITIES as readonly string[]).includes(values.ethnicity)) {
+      throw new UsageError(`--ethnicity must be one of ${ETHNICITIES.join(', ')}, not "${values.ethnicity}"`);
+    }
+    demographics.ethnicity = values.ethnicity as Ethnicity;
+  }
+  if (values.equations !== undefined && !(EQUATIONS as readonly string[]).includes(values.equations)) {
+    throw new UsageError(`--equations must be one of ${EQUATIONS.join(', ')}, not "${values.equations}"`);
+  }
+  return {
+    files: positionals,
+    demographics,
+    equations: values.equations as EquationsId | undefined,
+    protocolId: values.protocol,
+    referenceDir: values['reference-dir'],
+  };
+}
+
+/**
+ * The equations to use: the named set, else GLI Global 2022 when the reference
+ * folder holds its workbook, else the built-in ECSC/ERS 1993 set.
+ */
+async function chooseEquations(options: Options, referenceDir: string | undefined): Promise<ReferenceEquations> {
+  const { loadReferenceEquations, REFERENCE_FILES } = await import('../reference-sets/reference-loader.js');
+  let id = options.equations;
+  if (id === undefined) {
+    const hasGliGlobal =
+      referenceDir !== undefined &&
+      REFERENCE_FILES['gli-global-2022'].every((relative) => {
+        try {
+          return statSync(path.join(referenceDir, relative)).isFile();
+        } catch {
+          return false;
+        }
+      });
+    id = hasGliGlobal ? 'gli-global-2022' : 'ecsc-1993';
+  }
+  if (REFERENCE_FILES[id].length > 0 && referenceDir === undefined) {
+    throw new UsageError(`the ${id} equations need a reference folder: --reference-dir DIR or TIDEMARK_REFERENCE_DIR`);
+  }
+  return loadReferenceEquations(id, referenceDir ?? '');
+}
+
+function predictedJson(value: PredictedValue | undefined): Record<string, unknown> | null {
+  if (!value) return null;
+  return {
+    predicted: value.predicted,
+    lln: value.lln,
+    uln: value.uln,
+    z: value.z,
+    percentPredicted: value.percentPredicted,
+    ...(value.reason ? { reason: value.reason } : {}),
+  };
+}
+
+/** The output object of formats.md, with extra keys for the reader. */
+function toOutput(analysis: SessionAnalysis, demographics: Partial<Demographics>): unknown {
+  const efforts = analysis.efforts.map((effort) => {
+    const m = effort.metrics;
+    return {
+      file: effort.label,
+      timeZero: m.timeZeroS,
+      bev: m.bevL,
+      fev1: m.fev1L,
+      fvc: m.fvcL,
+      fev6: m.fev6L,
+      pef: m.pefLPerS,
+      fef2575: m.fef2575LPerS,
+      fet: m.fetS,
+      eofe: m.endOfTest.met,
+      fev1Verdict: effort.verdicts.fev1.verdict,
+      fvcVerdict: effort.verdicts.fvc.verdict,
+      findings: effort.findings.map((finding) => finding.code),
+      fev075: m.fev075L,
+      fef25: m.fef25LPerS,
+      fef50: m.fef50LPerS,
+      fef75: m.fef75LPerS,
+      fivc: m.fivcL,
+      hesitationTime: m.hesitationTimeS,
+      timeToPef: m.timeToPefS,
+      endOfTest: m.endOfTest,
+      ...(effort.verdicts.fev075 ? { fev075Verdict: effort.verdicts.fev075.verdict } : {}),
+      verdictReasons: {
+        fev1: effort.verdicts.fev1.failures.map((failure) => failure.message),
+        fvc: effort.verdicts.fvc.failures.map((failure) => failure.message),
+      },
+      findingDetails: effort.findings,
+    };
+  });
+  const { reported, predicted } = analysis;
+  return {
+    efforts,
+    session: {
+      fev1Grade: analysis.fev1.grade,
+      fvcGrade: analysis.fvc.grade,
+      fev1: reported.fev1?.valueL ?? null,
+      fvc: reported.fvc?.valueL ?? null,
+      fev1FvcRatio: reported.fev1FvcRatio,
+      predicted: predicted
+        ? {
+            equations: predicted.equationsId,
+            fev1: predictedJson(predicted.fev1),
+            fvc: predictedJson(predicted.fvc),
+            fev1FvcRatio: predictedJson(predicted.fev1Fvc),
+            ...(predicted.fef2575 ? { fef2575: predictedJson(predicted.fef2575) } : {}),
+            ...(predicted.pef ? { pef: predictedJson(predicted.pef) } : {}),
+            ...(predicted.fev6 ? { fev6: predictedJson(predicted.fev6) } : {}),
+          }
+        : null,
+      fev1Effort: reported.fev1?.effortIndex ?? null,
+      fvcEffort: reported.fvc?.effortIndex ?? null,
+      bestEffort: reported.bestEffortIndex,
+      pef: reported.pefLPerS,
+      fef2575: reported.fef2575LPerS,
+      fev1RepeatabilityMl: analysis.fev1.differenceMl,
+      fvcRepeatabilityMl: analysis.fvc.differenceMl,
+      acceptableFev1Count: analysis.fev1.acceptableCount,
+      acceptableFvcCount: analysis.fvc.acceptableCount,
+      ...(analysis.fev075 ? { fev075Grade: analysis.fev075.grade, fev075: analysis.reportedFev075L } : {}),
+      endpointEligible: analysis.endpoint,
+      notes: analysis.notes,
+      protocol: analysis.protocol,
+      demographics: Object.keys(demographics).length > 0 ? demographics : null,
+    },
+  };
+}
+
+async function run(argv: string[]): Promise<string> {
+  const options = parseCommandLine(argv);
+  const protocol = loadProtocol(options.protocolId);
+  const inputs = await readInputs(options.files, protocol);
+  const demographics = { ...inputs.demographics, ...options.demographics };
+  const complete = demographics.ageYears !== undefined && demographics.heightCm !== undefined && demographics.sex !== undefined;
+  const asked = options.demographics;
+  const partial = asked.heightCm !== undefined || asked.sex !== undefined || options.equations !== undefined;
+  if (!complete && partial) {
+    throw new UsageError('predicted values need --age, --height-cm and --sex together');
+  }
+  const referenceDir = options.referenceDir ?? loadConfig().referenceDir;
+  const equations = complete ? await chooseEquations(options, referenceDir) : undefined;
+  const analysis = analyzeSession(inputs.recordings, protocol, { demographics, equations });
+  return JSON.stringify(toOutput(analysis, demographics));
+}
+
+function oneLine(message: string): string {
+  return message.replace(/\s*\n\s*/g, ' ').trim();
+}
+
+run(process.argv.slice(2)).then(
+  (json) => {
+    process.stdout.write(json + '\n');
+  },
+  (error: unknown) => {
+    if (error instanceof UsageError) {
+      process.stderr.write(`analyze: ${oneLine(error.message)}\n`);
+      process.exitCode = 2;
+    } else if (error instanceof SpirometryInputError || error instanceof ProtocolCatalogueError) {
+      process.stderr.write(`analyze: ${oneLine(error.message)}\n`);
+      process.exitCode = 1;
+    } else {
+      // Unexpected: still one line, so that scripts reading stderr are not flooded.
+      process.stderr.write(`analyze: internal error: ${oneLine(error instanceof Error ? error.message : String(error))}\n`);
+      process.exitCode = 1;
+    }
+  },
+);
