@@ -30,6 +30,21 @@ export default tseslint.config(
     },
   },
   {
+    // Unit specs beside the engine may also import the test runner and read fixture files.
+    files: ['shared/**/*.spec.ts'],
+    rules: {
+      'no-restricted-imports': [
+        'error',
+        {
+          patterns: [
+            { ...outsideShared, regex: '^(?!zod$|@jest/globals$|node:(fs|path|url)$|\\.{1,2}/)' },
+            upToOtherLayers(['server', 'src', 'test', 'storage-fake'], outsideShared.message),
+          ],
+        },
+      ],
+    },
+  },
+  {
     files: ['src/**/*.ts'],
     extends: [...angular.configs.tsRecommended],
     processor: angular.processInlineTemplates,

@@ -62,8 +62,11 @@ export function authRoutes(deps: {
     successStatus: 303,
     responseDescription: 'Redirect into the app, or to the sign-in page with the reason',
     handler: async ({ req, res, query }) => {
-      const toSignIn = (code: string, message: string) =>
-        res.redirect(303, `/sign-in?error=${encodeURIComponent(code)}&message=${encodeURIComponent(message)}`);
+      // Only the code travels in the URL: the page words it, so a crafted link cannot put text on our page.
+      const toSignIn = (code: string, message: string) => {
+        req.log?.info({ code }, message);
+        res.redirect(303, `/sign-in?error=${encodeURIComponent(code)}`);
+      };
       res.clearCookie(LOGIN_COOKIE, cookieBase);
       if (query.error) return toSignIn('idp-refused', `The identity provider did not sign you in (${query.error}).`);
       if (!query.state || query.state !== req.cookies?.[LOGIN_COOKIE]) {

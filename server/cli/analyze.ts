@@ -17,7 +17,12 @@ import type { ResolvedProtocol } from '../../shared/spirometry/protocol.js';
 import type { ReferenceEquations } from '../../shared/spirometry/reference/reference-equations.js';
 import { analyzeSession, type SessionAnalysis } from '../../shared/spirometry/session-analysis.js';
 import { parseFhirBundle } from '../../shared/spirometry/fhir-bundle.js';
-import { parseSessionDocument, sessionDocumentToRecordings } from '../../shared/spirometry/session-document.js';
+import {
+  type SessionMetadata,
+  parseSessionDocument,
+  sessionDocumentToRecordings,
+  sessionMetadataSchema,
+} from '../../shared/spirometry/session-document.js';
 
 /** A command-line mistake: exit code 2. */
 class UsageError extends Error {}
@@ -63,26 +68,35 @@ function parseJson(text: string, file: string): unknown {
   }
 }
 
-/** Demographics at test from a session document or session.json, whatever of them is there. */
-function demographicsIn(json: unknown): Partial<Demographics> {
-  const holder = json as { demographics?: unknown; subject?: { demographics?: unknown } } | null;
-  const found = (holder?.demographics ?? holder?.subject?.demographics) as Partial<Record<keyof Demographics, unknown>> | undefined;
-  if (!found || typeof found !== 'object') return {};
-  const result: { -readonly [K in keyof Demographics]?: Demographics[K] } = {};
-  if (typeof found.ageYears === 'number') result.ageYears = found.ageYears;
-  if (typeof found.heightCm === 'number') result.heightCm = found.heightCm;
-  if (found.sex === 'female' || found.sex === 'male') result.sex = found.sex;
-  if (typeof found.ethnicity === 'string' && (ETHNICITIES as readonly string[]).includes(found.ethnicity)) {
-    result.ethnicity = found.ethnicity as Ethnicity;
+/** Demographics at test that a session's metadata carries, without the fields the engine does not use. */
+function demographicsOf(metadata: SessionMetadata): Partial<Demographics> {
+  const { ageYears, heightCm, sex, ethnicity } = metadata.demographics ?? {};
+  return {
+    ...(ageYears !== undefined ? { ageYears } : {}),
+    ...(heightCm !== undefined ? { heightCm } : {}),
+    ...(sex !== undefined ? { sex } : {}),
+    ...(ethnicity !== undefined ? { ethnicity } : {}),
+  };
+}
+
+/** The optional session.json of a zip: the session's metadata, bare or under a "metadata" key. */
+function parseZipMetadata(bytes: Uint8Array, file: string): SessionMetadata {
+  const json = parseJson(decodeUtf8(bytes, file), file) as { metadata?: unknown } | null;
+  const metadata = json !== null && typeof json === 'object' && 'metadata' in json ? json.metadata : json;
+  const result = sessionMetadataSchema.safeParse(metadata);
+  if (!result.success) {
+    const issue = result.error.issues[0];
+    const where = issue.path.length > 0 ? issue.path.join('.') : '(document)';
+    throw new SpirometryInputError('session-json', `${file}: ${where}: ${issue.message}`, { file, column: where });
   }
-  return result;
+  return result.data;
 }
 
 function readSessionJson(file: string, bytes: Uint8Array): Inputs {
   const json = parseJson(decodeUtf8(bytes, file), file);
   const isBundle = (json as { resourceType?: unknown } | null)?.resourceType === 'Bundle';
-  const document = isBundle ? parseFhirBundle(json) : parseSessionDocument(json);
-  return { recordings: sessionDocumentToRecordings(document), demographics: demographicsIn(document) };
+  const document = isBundle ? parseFhirBundle(json, file) : parseSessionDocument(json, file);
+  return { recordings: sessionDocumentToRecordings(document), demographics: demographicsOf(document.metadata) };
 }
 
 /** Whether a zip entry name stays inside the archive. */
@@ -115,7 +129,7 @@ async function readZip(file: string, bytes: Uint8Array, protocol: ResolvedProtoc
   csvNames.sort((a, b) => (a < b ? -1 : a > b ? 1 : 0));
   const csvOptions = { ...DEFAULT_EFFORT_CSV_OPTIONS, minSampleRateHz: protocol.engine.minSampleRateHz };
   const recordings = csvNames.map((name) => parseEffortCsv(decodeUtf8(entries[name], name), name, csvOptions));
-  const demographics = sessionJson ? demographicsIn(parseJson(decodeUtf8(sessionJson, 'session.json'), 'session.json')) : {};
+  const demographics = sessionJson ? demographicsOf(parseZipMetadata(sessionJson, `${file}/session.json`)) : {};
   return { recordings, demographics };
 }
 

@@ -41,10 +41,12 @@ export function parseGliEquation(text: string, symbol: 'M' | 'S' | 'L', where: s
     if (sign) rest = rest.slice(1);
     const number = /^(\d+\.?\d*|\.\d+)(e[+-]?\d+)?/.exec(rest);
     if (number) rest = rest.slice(number[0].length);
-    if (number && rest.startsWith('*')) rest = rest.slice(1);
+    const multiplied = number !== null && rest.startsWith('*');
+    if (multiplied) rest = rest.slice(1);
     const term = SYMBOLS.find((s) => s.pattern.test(rest));
+    if ((!number && !term) || (multiplied && !term)) fail(`cannot be read from "${rest}".`);
     if (term) rest = rest.replace(term.pattern, '');
-    if (!number && !term) fail(`cannot be read from "${rest}".`);
+    if (rest !== '' && !/^[+-]/.test(rest)) fail(`cannot be read from "${rest}".`);
     if (term?.symbol === 'spline' && number) fail('multiplies the spline by a coefficient, which GLI equations never do.');
     const name = term?.symbol ?? 'constant';
     if (found[name] !== undefined) fail(`has more than one ${name === 'constant' ? 'constant' : name} term.`);

@@ -111,13 +111,13 @@ describe('acceptability table (Graham BL et al. 2019, ATS/ERS, Table 7, reconstr
 
 describe('young children (6 or under): FEV0.75 for the first-second criteria (Graham BL et al. 2019, from memory)', () => {
   it('judges FEV0.75 with a 0.75 s window: a cough at 0.9 s spares FEV0.75 but not FEV1', () => {
-    const verdicts = judgeEffort(metrics(), [finding('cough-first-second', { timeFromTimeZeroS: 0.9 })], protocol, 5);
+    const verdicts = judgeEffort(metrics(), [finding('cough-first-second', { atS: 0.9 })], protocol, 5);
     expect(verdicts.fev075?.verdict).toBe('acceptable');
     expect(verdicts.fev1.verdict).toBe('not_acceptable');
   });
 
   it('a cough at 0.5 s fails FEV0.75 as well', () => {
-    const verdicts = judgeEffort(metrics(), [finding('cough-first-second', { timeFromTimeZeroS: 0.5 })], protocol, 5);
+    const verdicts = judgeEffort(metrics(), [finding('cough-first-second', { atS: 0.5 })], protocol, 5);
     expect(verdicts.fev075?.verdict).toBe('not_acceptable');
   });
 

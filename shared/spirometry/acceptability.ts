@@ -38,19 +38,16 @@ const FIRST_SECOND_CRITERIA: ReadonlySet<AcceptabilityCriterionId> = new Set([
   'glottic-closure-first-second',
 ]);
 
-/** Keys under which a finding may carry its time after time zero (s). */
-const FINDING_TIME_KEYS = ['timeFromTimeZeroS', 'atTimeS', 'timeS', 'startS'] as const;
+/** Key under which the per-effort findings carry their time after time zero (s). */
+const FINDING_TIME_KEY = 'atS';
 
 /**
  * When a first-second finding happened, in seconds after time zero, if the
  * finding says so; null when it does not (then it is taken to fall in the window).
  */
 function findingTimeS(finding: Finding): number | null {
-  for (const key of FINDING_TIME_KEYS) {
-    const value = finding.values[key];
-    if (typeof value === 'number' && Number.isFinite(value)) return value;
-  }
-  return null;
+  const value = finding.values[FINDING_TIME_KEY];
+  return typeof value === 'number' && Number.isFinite(value) ? value : null;
 }
 
 function describe(criterion: AcceptabilityCriterionId, codes: readonly FindingCode[], metrics: EffortMetrics): string {

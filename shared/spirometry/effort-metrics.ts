@@ -42,10 +42,13 @@ export function measureEffortDetailed(sig: DualSignal, params: EngineParameters,
     return value === null ? null : value - ref;
   };
 
+  // Plateau: the last second of the expiratory phase, up to the breath in or the end of the
+  // recording, so that a subject who empties fast and stays on the mouthpiece shows one,
+  // and one who breathes in (or is cut off) while still exhaling does not.
   const startTimeS = sampleTimeS(sig, blow.maxInspirationIndex);
-  const windowStartS = Math.max(startTimeS, endTimeS - params.plateauWindowS);
-  const lastSecondVolumeChangeL = (valueAtTime(sig, v, endTimeS) ?? 0) - (valueAtTime(sig, v, windowStartS) ?? 0);
-  const plateau = fetS >= params.plateauWindowS && lastSecondVolumeChangeL <= params.plateauMaxVolumeChangeL;
+  const windowStartS = Math.max(startTimeS, lastExpiratoryTimeS - params.plateauWindowS);
+  const lastSecondVolumeChangeL = (valueAtTime(sig, v, lastExpiratoryTimeS) ?? 0) - (valueAtTime(sig, v, windowStartS) ?? 0);
+  const plateau = lastExpiratoryTimeS - t0 >= params.plateauWindowS && lastSecondVolumeChangeL <= params.plateauMaxVolumeChangeL;
   const longExpiration = fetS >= params.longExpirationFetS;
 
   // FEV6 needs the subject still on the mouthpiece, not breathing in, at 6 s, and a blow that

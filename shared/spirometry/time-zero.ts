@@ -11,6 +11,8 @@ export interface TimeZero {
   /** A point on the line (the start of the steepest window). */
   readonly anchorTimeS: number;
   readonly anchorVolumeL: number;
+  /** End of the steepest window (s). */
+  readonly windowEndTimeS: number;
 }
 
 /**
@@ -46,10 +48,12 @@ export function findTimeZero(sig: DualSignal, blow: ForcedBlow, windowS: number)
     }
   }
   const startTimeS = sampleTimeS(sig, blow.maxInspirationIndex);
+  let windowSamples = k;
   if (bestStart < 0 || !(bestSlope > 0)) {
     // Recording too short after the peak for one window: fall back to the peak flow itself.
     bestStart = p;
     bestSlope = sig.flowLPerS[p];
+    windowSamples = 0;
   }
   const anchorTimeS = sampleTimeS(sig, bestStart);
   const anchorVolumeL = v[bestStart] - blow.referenceVolumeL;
@@ -57,5 +61,6 @@ export function findTimeZero(sig: DualSignal, blow: ForcedBlow, windowS: number)
   // A line that meets the start volume before maximal inspiration means there was no hesitation to remove.
   if (timeZeroS < startTimeS) timeZeroS = startTimeS;
   const bevL = (valueAtTime(sig, v, timeZeroS) ?? blow.referenceVolumeL) - blow.referenceVolumeL;
-  return { timeZeroS, bevL, slopeLPerS: bestSlope, anchorTimeS, anchorVolumeL };
+  const windowEndTimeS = sampleTimeS(sig, bestStart + windowSamples);
+  return { timeZeroS, bevL, slopeLPerS: bestSlope, anchorTimeS, anchorVolumeL, windowEndTimeS };
 }

@@ -60,7 +60,7 @@ describe('health and the API description', () => {
 });
 
 describe('sign-in through the identity provider, per role', () => {
-  it.each(DEMO_USERS.map((user) => [user.email, user]))('%s gets their own roles', async (_email, user) => {
+  it.each(DEMO_USERS.map((user) => [user.email, user] as const))('%s gets their own roles', async (_email, user) => {
     const { client, callback } = await signIn(tidemark.url, user.email);
     expect(callback.status).toBe(303);
     expect(callback.headers.get('location')).toBe('/site-desk');

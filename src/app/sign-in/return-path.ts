@@ -7,7 +7,7 @@ export function safeReturnPath(candidate: string | null | undefined): string {
   if (!candidate || !candidate.startsWith('/')) return '/';
   if (candidate.startsWith('//') || candidate.startsWith('/\\')) return '/';
   // Control characters (tab, newline) are stripped by URL parsers and can rebuild `//`.
-  if (/[\u0000-\u001f\u007f]/.test(candidate)) return '/';
+  if ([...candidate].some(isControlCharacter)) return '/';
   if (candidate === '/sign-in' || candidate.startsWith('/sign-in?') || candidate.startsWith('/sign-in/')) {
     return '/';
   }
@@ -17,4 +17,9 @@ export function safeReturnPath(candidate: string | null | undefined): string {
 /** The server route that starts the sign-in round trip and returns to `returnTo` afterwards. */
 export function loginUrl(returnTo: string | null | undefined): string {
   return `/auth/login?returnTo=${encodeURIComponent(safeReturnPath(returnTo))}`;
+}
+
+function isControlCharacter(character: string): boolean {
+  const code = character.charCodeAt(0);
+  return code < 0x20 || code === 0x7f;
 }

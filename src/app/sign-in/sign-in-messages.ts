@@ -10,6 +10,15 @@ const MESSAGES: Readonly<Record<string, string>> = {
   'session-unavailable':
     'Tidemark could not check your session because the server did not answer. Try again in a moment.',
   'session-expired': 'Your session has ended. Sign in again to continue.',
+  // Set by the server's sign-in callback.
+  'login-mismatch': 'This sign-in did not start in this browser. Start signing in again.',
+  'login-expired': 'This sign-in link has expired or was already used. Start signing in again.',
+  'idp-refused': 'The sign-in service did not sign you in. You can try again.',
+  'no-account':
+    'Your account has no access to Tidemark. Ask your study admin for an invitation.',
+  'account-inactive': 'Your Tidemark account is deactivated. Ask your study admin.',
+  'no-email': 'The sign-in service did not share your e-mail address, which Tidemark needs.',
+  'login-failed': 'Signing in failed. Start signing in again.',
 };
 
 /** The message to show for a sign-in error code, or null when there is none. */
