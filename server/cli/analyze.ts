@@ -1,9 +1,18 @@
 /**
  * `npm run --silent analyze -- [options] FILE...`: analyses the given efforts as one
- * session and prints one JSON object on stdout (formats.md, "The analysis command").
+ * session and prints one JSON object on stdout, in the documented shape of the analysis command.
  * Each FILE is an effort CSV, or there is one session file: a Tidemark session JSON,
  * a FHIR R4 Bundle, or a .zip of effort CSVs with an optional session.json.
- * Errors: one line on stderr, exit code 1 (bad input) or 2 (bad command line).
+ *
+ * Options: --age Y --height-cm H --sex female|male [--ethnicity E] [--equations ID]
+ * [--reference-dir DIR] [--protocol ID]. Predicted values need age, height and sex
+ * (from the options or the session's metadata; options win). Without --equations the
+ * command uses GLI Global 2022 when the reference folder (--reference-dir, else
+ * TIDEMARK_REFERENCE_DIR) holds its workbook, else the built-in ECSC/ERS 1993 set;
+ * the set used is named in `session.predicted.equations`. Age alone selects the
+ * young-child grade rules. Numbers are printed unrounded.
+ * Errors: one line on stderr, nothing on stdout, exit code 1 (bad input) or 2 (bad
+ * command line).
  */
 import { readFileSync, statSync } from 'node:fs';
 import path from 'node:path';
@@ -108,17 +117,28 @@ function isSafeEntryName(name: string): boolean {
 async function readZip(file: string, bytes: Uint8Array, protocol: ResolvedProtocol): Promise<Inputs> {
   const { unzipSync } = await import('fflate');
   let entries: Record<string, Uint8Array>;
+  let expandedBytes = 0;
   try {
-    entries = unzipSync(bytes);
+    entries = unzipSync(bytes, {
+      // Checked before anything is expanded: a hostile name or a zip bomb never reaches memory.
+      filter: (entry) => {
+        if (!isSafeEntryName(entry.name)) {
+          throw new SpirometryInputError('zip-path', `${file}: entry "${entry.name}" points outside the archive`, { file });
+        }
+        expandedBytes += entry.originalSize;
+        if (expandedBytes > MAX_FILE_BYTES) {
+          throw new SpirometryInputError('file-too-large', `${file}: expands to more than the ${MAX_FILE_BYTES} bytes accepted`, { file });
+        }
+        return true;
+      },
+    });
   } catch (error) {
+    if (error instanceof SpirometryInputError) throw error;
     throw new SpirometryInputError('zip', `${file}: not a readable zip archive (${(error as Error).message})`, { file });
   }
   const csvNames: string[] = [];
   let sessionJson: Uint8Array | undefined;
   for (const name of Object.keys(entries)) {
-    if (!isSafeEntryName(name)) {
-      throw new SpirometryInputError('zip-path', `${file}: entry "${name}" points outside the archive`, { file });
-    }
     const base = path.posix.basename(name.replace(/\\/g, '/'));
     if (name.endsWith('/') || name.startsWith('__MACOSX/') || base.startsWith('.')) continue;
     if (base === 'session.json') sessionJson = entries[name];
@@ -251,7 +271,7 @@ function predictedJson(value: PredictedValue | undefined): Record<string, unknow
   };
 }
 
-/** The output object of formats.md, with extra keys for the reader. */
+/** The documented output object, with extra keys for the reader. */
 function toOutput(analysis: SessionAnalysis, demographics: Partial<Demographics>): unknown {
   const efforts = analysis.efforts.map((effort) => {
     const m = effort.metrics;
@@ -334,8 +354,7 @@ async function run(argv: string[]): Promise<string> {
   if (!complete && partial) {
     throw new UsageError('predicted values need --age, --height-cm and --sex together');
   }
-  const referenceDir = options.referenceDir ?? loadConfig().referenceDir;
-  const equations = complete ? await chooseEquations(options, referenceDir) : undefined;
+  const equations = complete ? await chooseEquations(options, options.referenceDir ?? loadConfig().referenceDir) : undefined;
   const analysis = analyzeSession(inputs.recordings, protocol, { demographics, equations });
   return JSON.stringify(toOutput(analysis, demographics));
 }

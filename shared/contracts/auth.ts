@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import * as z from 'zod';
 
 /** The roles Tidemark knows. An adjudicator is an over-reader with the right to adjudicate. */
 export const roleSchema = z.enum([

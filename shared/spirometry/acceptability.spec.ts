@@ -8,7 +8,7 @@ import { resolveProtocol, type ProtocolRuleSet } from './protocol.js';
 const ruleSet = JSON.parse(readFileSync(path.resolve('protocols/ats-ers-2019.v1.json'), 'utf8')) as ProtocolRuleSet;
 const protocol = resolveProtocol(ruleSet);
 
-/** A clean effort with the values of the engine.md section 9 analytic curve (PEF 8, tr 0.1, tau 0.6). */
+/** A clean effort with the closed-form values of the analytic test curve (linear rise, exponential decay; PEF 8, tr 0.1, tau 0.6). */
 function metrics(overrides: Partial<EffortMetrics> = {}): EffortMetrics {
   return {
     timeZeroS: 0.05,

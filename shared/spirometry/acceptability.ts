@@ -95,14 +95,16 @@ function judgeValue(
       message: `no ${value === 'fev1' ? (firstSecondWindowS < 1 ? 'FEV0.75' : 'FEV1') : 'FVC'}: the blow is too short`,
     });
   }
+  const acceptableColumn = value === 'fev1' ? 'fev1-acceptable' : 'fvc-acceptable';
+  const usableColumn = value === 'fev1' ? 'fev1-usable' : 'fvc-usable';
   for (const criterion of protocol.acceptability) {
-    const neededForAcceptable = criterion.requiredFor[`${value}-acceptable`];
-    const neededForUsable = criterion.requiredFor[`${value}-usable`];
+    const neededForAcceptable = criterion.requiredFor[acceptableColumn];
+    const neededForUsable = criterion.requiredFor[usableColumn];
     if (!neededForAcceptable && !neededForUsable) continue;
     const { failed, codes } = failingCodes(criterion, findings, metrics, firstSecondWindowS);
     if (!failed) continue;
-    const ruleIds = [`acceptability.${criterion.id}.${value}-acceptable`];
-    if (neededForUsable) ruleIds.push(`acceptability.${criterion.id}.${value}-usable`);
+    const ruleIds = [`acceptability.${criterion.id}.${acceptableColumn}`];
+    if (neededForUsable) ruleIds.push(`acceptability.${criterion.id}.${usableColumn}`);
     failures.push({
       criterion: criterion.id,
       ruleIds,

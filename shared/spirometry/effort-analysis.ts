@@ -85,9 +85,9 @@ function checkSampling(rec: Recording, params: EngineParameters): void {
 
 /**
  * Plot series: time from time zero, volume from maximal inspiration, at most about
- * {@link MAX_PLOT_POINTS} points by keeping every k-th sample plus the samples that
- * matter (maximal inspiration, peak flow, end of expiration, and each stride's
- * extreme flow, so that a short cough dip is not lost).
+ * {@link MAX_PLOT_POINTS} points: the lowest and highest flow sample of each stride (so
+ * that a short cough dip or the peak is not lost), plus maximal inspiration, peak flow,
+ * end of expiration and the last sample.
  */
 export function buildPlotSeries(sig: DualSignal, measured: MeasuredEffort): PlotSeries {
   const { metrics, blow, timeZero } = measured;
@@ -102,8 +102,7 @@ export function buildPlotSeries(sig: DualSignal, measured: MeasuredEffort): Plot
       if (sig.flowLPerS[i] < sig.flowLPerS[lo]) lo = i;
       if (sig.flowLPerS[i] > sig.flowLPerS[hi]) hi = i;
     }
-    keep.push(start);
-    if (stride > 1) keep.push(lo, hi);
+    keep.push(lo, hi);
   }
   keep.push(n - 1, blow.maxInspirationIndex, blow.peakFlowIndex, blow.endOfExpirationIndex);
   const indices = [...new Set(keep)].sort((a, b) => a - b);

@@ -10,6 +10,7 @@ export interface EffortCsvOptions {
   readonly intervalTolerance: number;
 }
 
+/** Limits used when the caller gives none: 100 Hz [memory], 1 s and 1 % [practice]. */
 export const DEFAULT_EFFORT_CSV_OPTIONS: EffortCsvOptions = {
   minSampleRateHz: 100,
   minDurationS: 1,
@@ -29,7 +30,10 @@ const ACCEPTED_HEADER_LIST = Object.keys(ACCEPTED_HEADERS)
  * `time_s,flow_l_s`, then one row per uniformly spaced sample. Tolerates a byte-order
  * mark, CRLF line ends, spaces around cells and trailing blank lines; anything else
  * is a {@link SpirometryInputError} naming the file, the row (1-based line of the file)
- * and the column.
+ * and the column. Codes: `csv-empty`, `csv-header`, `csv-columns`, `csv-number`,
+ * `csv-non-finite`, `csv-time-order`, `csv-time-uniform`, `sample-rate`, `too-few-samples`.
+ * Intervals may differ from the mean by 1 % plus the rounding of the printed times
+ * (one unit of their last decimal, at most 30 % of the interval).
  */
 export function parseEffortCsv(
   text: string,

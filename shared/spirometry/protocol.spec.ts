@@ -25,7 +25,7 @@ function refusal(input: unknown): ProtocolRuleSetError {
 describe('default rule set ats-ers-2019 v1', () => {
   const protocol = resolveProtocol(ruleSet);
 
-  it('carries the engine parameters of engine.md sections 1 and 3', () => {
+  it('carries the ATS/ERS curve-processing and acceptability thresholds', () => {
     // Graham BL et al. 2019 (ATS/ERS), from memory: BEV 5 % / 0.100 L, hesitation 2 s, plateau 0.025 L in 1 s, FET 15 s, 100 Hz.
     expect(protocol.engine).toMatchObject({
       minSampleRateHz: 100,

@@ -5,11 +5,12 @@ import type { Recording } from './model.js';
 import { resolveProtocol } from './protocol.js';
 import { ecsc1993Equations } from './reference/ecsc-1993.js';
 import { analyzeSession } from './session-analysis.js';
+import { generateSession } from './synthetic/curve-generator.js';
 
 const protocol = resolveProtocol(JSON.parse(readFileSync(path.resolve('protocols/ats-ers-2019.v1.json'), 'utf8')));
 
 /**
- * engine.md section 9 analytic curve (our own construction from the definitions): flow rises
+ * Analytic test curve (our own construction from the ATS/ERS definitions, solved in closed form): flow rises
  * linearly to PEF over riseS, then decays with time constant tauS; FVC = PEF (tr/2 + tau).
  * Sampled as volume after a 0.5 s flat lead-in, for `durationS` after the start of the blow.
  */
@@ -27,7 +28,7 @@ function analyticEffort(label: string, pefLPerS: number, options: { tauS?: numbe
   return { signal: 'volume', sampleRateHz: rateHz, startTimeS: 0, values, label };
 }
 
-describe('session analysis on analytic curves (engine.md section 9)', () => {
+describe('session analysis on closed-form analytic curves', () => {
   it('grades three repeatable efforts A and reports the largest acceptable values', () => {
     // FVC 5.200 / 5.135 / 5.070 L: 65 mL between the two largest -> grade A (Graham BL et al. 2019, Table 10).
     const analysis = analyzeSession([analyticEffort('e1', 7.9), analyticEffort('e2', 8), analyticEffort('e3', 7.8)], protocol, {
@@ -38,7 +39,7 @@ describe('session analysis on analytic curves (engine.md section 9)', () => {
     expect(analysis.fvc.grade).toBe('A');
     expect(analysis.reported.fvc?.effortIndex).toBe(1);
     expect(analysis.reported.fev1?.effortIndex).toBe(1);
-    // engine.md section 9: FVC 5.200000, FEV1 4.214610 for PEF 8; ATS/ERS 2005 Table 6 accuracy 3 % or 0.050 L.
+    // Closed form for PEF 8, tr 0.1, tau 0.6: FVC = PEF (tr/2 + tau) = 5.200000, FEV1 = 4.214610; ATS/ERS 2005 Table 6 accuracy 3 % or 0.050 L.
     expect(Math.abs((analysis.reported.fvc?.valueL as number) - 5.2)).toBeLessThanOrEqual(0.05);
     expect(Math.abs((analysis.reported.fev1?.valueL as number) - 4.21461)).toBeLessThanOrEqual(0.05);
     expect(analysis.reported.bestEffortIndex).toBe(1);
@@ -118,5 +119,47 @@ describe('session analysis on analytic curves (engine.md section 9)', () => {
     const adult = analyzeSession(efforts, protocol, { demographics: { ageYears: 30 } });
     expect(adult.fvc.grade).toBe('C');
     expect(adult.fev075).toBeNull();
+  });
+});
+
+describe('session analysis on generated sessions (synthetic physiological curves with exact values)', () => {
+  /** ATS/ERS 2005 (Miller MR et al.), Table 6: volumes within 3 % of reading or 0.050 L. */
+  const withinAccuracy = (measuredL: number, expectedL: number): boolean => Math.abs(measuredL - expectedL) <= Math.max(0.03 * expectedL, 0.05);
+
+  it('three clean efforts: all acceptable, grade A, reported FVC the largest generated FVC', () => {
+    const generated = generateSession({ efforts: 3, base: { sampleRateHz: 100 } }, 3);
+    const analysis = analyzeSession(generated.map((effort) => effort.recording), protocol, { demographics: { ageYears: 40 } });
+    expect(analysis.efforts.every((effort) => effort.verdicts.fev1.verdict === 'acceptable' && effort.verdicts.fvc.verdict === 'acceptable')).toBe(true);
+    // Generated FVCs 5.030 / 5.007 / 5.030 L: within 0.150 L -> A (Graham BL et al. 2019, Table 10).
+    expect(analysis.fvc.grade).toBe('A');
+    expect(analysis.fev1.grade).toBe('A');
+    const largestFvcL = Math.max(...generated.map((effort) => effort.truth.fvcL));
+    expect(withinAccuracy(analysis.reported.fvc?.valueL as number, largestFvcL)).toBe(true);
+  });
+
+  it('faulty efforts: a late glottic stop leaves FVC usable, a weak blow is flagged submaximal', () => {
+    const generated = generateSession(
+      { efforts: 4, base: { sampleRateHz: 100 }, perEffort: [undefined, { faults: ['glottic-late'] }, { faults: ['submaximal'] }, undefined] },
+      4,
+    );
+    const analysis = analyzeSession(generated.map((effort) => effort.recording), protocol, { demographics: { ageYears: 40 } });
+    // Table 7 (Graham BL et al. 2019, from memory): glottic closure after 1 s -> FVC not acceptable but usable; FEV1 unaffected.
+    expect(analysis.efforts[1].findings.map((finding) => finding.code)).toContain('glottic-stop-late');
+    expect(analysis.efforts[1].verdicts.fvc.verdict).toBe('usable');
+    expect(analysis.efforts[1].verdicts.fev1.verdict).toBe('acceptable');
+    // Submaximal: PEF below 85 % of the session's best (common practice).
+    expect(analysis.efforts[2].findings.map((finding) => finding.code)).toContain('blow-submaximal');
+    // The usable FVC (4.52 L) is never reported while acceptable ones exist (ATS/ERS 2019 reported values).
+    expect(analysis.reported.fvc?.fromUsable).toBe(false);
+    expect(analysis.reported.fvc?.effortIndex).not.toBe(1);
+  });
+
+  it('poorly repeatable FVC: grade E when the two largest differ by more than 0.250 L', () => {
+    // Generated FVCs 5.169 / 4.623 / 4.841 L: two largest 0.328 L apart -> E (Graham BL et al. 2019, Table 10).
+    const generated = generateSession({ efforts: 3, base: { sampleRateHz: 100 }, fvcSdL: 0.4 }, 9);
+    const analysis = analyzeSession(generated.map((effort) => effort.recording), protocol, { demographics: { ageYears: 40 } });
+    expect(analysis.fvc.acceptableCount).toBe(3);
+    expect(analysis.fvc.differenceMl).toBeGreaterThan(250);
+    expect(analysis.fvc.grade).toBe('E');
   });
 });

@@ -75,8 +75,11 @@ export const sessionDocumentSchema = z
   })
   .strict();
 
+/** A validated session document. */
 export type SessionDocument = z.infer<typeof sessionDocumentSchema>;
+/** Metadata of a session document. */
 export type SessionMetadata = z.infer<typeof sessionMetadataSchema>;
+/** One effort of a session document. */
 export type SessionEffort = z.infer<typeof sessionEffortSchema>;
 
 /**

@@ -10,7 +10,7 @@ const acceptable = (...valuesL: number[]): GradedValue[] =>
   valuesL.map((valueL, effortIndex) => ({ effortIndex, valueL, acceptable: true, usable: false }));
 
 describe('session grade, age over 6', () => {
-  // Graham BL et al. 2019 (ATS/ERS), Table 10, check values as listed in engine.md section 4.
+  // Graham BL et al. 2019 (ATS/ERS), Table 10: one check value per grade.
   it.each([
     [[3.2, 3.12, 3.1], 'A'],
     [[3.2, 3.12], 'B'],

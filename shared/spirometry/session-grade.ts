@@ -53,36 +53,40 @@ export function gradeWithTolerances(
   minAcceptableForA: number,
   childTolerances = false,
 ): Repeatability {
-  const acceptableMl = values
-    .filter((value) => value.acceptable && value.valueL !== null && Number.isFinite(value.valueL))
-    .map((value) => toWholeMl(value.valueL as number))
-    .sort((a, b) => b - a);
-  const usableCount = values.filter((value) => !value.acceptable && value.usable && value.valueL !== null).length;
-  const highestMl = acceptableMl[0] ?? 0;
+  // One pass, no intermediate arrays: this runs for every parameter of every analysed session.
+  const acceptableMl: number[] = [];
+  let usableCount = 0;
+  for (const value of values) {
+    if (value.valueL === null || !Number.isFinite(value.valueL)) continue;
+    if (value.acceptable) acceptableMl.push(toWholeMl(value.valueL));
+    else if (value.usable) usableCount++;
+  }
+  if (acceptableMl.length > 1) acceptableMl.sort((a, b) => b - a);
+  const highestMl = acceptableMl.length > 0 ? acceptableMl[0] : 0;
   const tolerancesMl = {
     ab: toleranceMl(tolerances.abToleranceL, tolerances.fractionOfHighest, highestMl),
     c: toleranceMl(tolerances.cToleranceL, tolerances.fractionOfHighest, highestMl),
     d: toleranceMl(tolerances.dToleranceL, tolerances.fractionOfHighest, highestMl),
   };
-  const base = {
+  const result = (grade: Grade, differenceMl: number | null): Repeatability => ({
+    grade,
     acceptableCount: acceptableMl.length,
     usableCount,
     largestL: acceptableMl.length > 0 ? acceptableMl[0] / 1000 : null,
     secondLargestL: acceptableMl.length > 1 ? acceptableMl[1] / 1000 : null,
+    differenceMl,
     tolerancesMl,
     childTolerances,
-  };
-  if (acceptableMl.length === 0) {
-    return { ...base, grade: usableCount > 0 ? 'U' : 'F', differenceMl: null };
-  }
-  if (acceptableMl.length === 1) return { ...base, grade: 'E', differenceMl: null };
+  });
+  if (acceptableMl.length === 0) return result(usableCount > 0 ? 'U' : 'F', null);
+  if (acceptableMl.length === 1) return result('E', null);
   const differenceMl = acceptableMl[0] - acceptableMl[1];
   let grade: Grade;
   if (differenceMl <= tolerancesMl.ab) grade = acceptableMl.length >= minAcceptableForA ? 'A' : 'B';
   else if (differenceMl <= tolerancesMl.c) grade = 'C';
   else if (differenceMl <= tolerancesMl.d) grade = 'D';
   else grade = 'E';
-  return { ...base, grade, differenceMl };
+  return result(grade, differenceMl);
 }
 
 /**

@@ -4,9 +4,12 @@ import { existsSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
 import { strToU8, zipSync } from 'fflate';
+import { buildFhirBundle } from '../../shared/spirometry/fhir-bundle.js';
+import { SESSION_DOCUMENT_FORMAT, type SessionDocument } from '../../shared/spirometry/session-document.js';
+import { effortToCsv, generateSession, type GeneratedEffort } from '../../shared/spirometry/synthetic/curve-generator.js';
 
 /**
- * The analytic test curve of engine.md section 9 (our own construction from the
+ * The analytic test curve (our own construction from the ATS/ERS
  * definitions): flow rises linearly to PEF over riseS, then decays exponentially
  * with time constant tauS. Volume V(t) = PEF t^2/(2 tr) up to tr, then
  * PEF tr/2 + PEF tau (1 - exp(-(t - tr)/tau)).
@@ -105,7 +108,22 @@ const hasReference = existsSync(referenceDir);
 if (!hasReference) console.warn(`analyze CLI: reference data not found at ${referenceDir}; predicted-value checks are skipped`);
 const withReference = hasReference ? describe : describe.skip;
 
-// engine.md section 9: PEF 8 L/s, tr 0.1 s, tau 0.6 s -> FVC 5.200000, time zero 0.05 s, BEV 0.100000,
+/** A session document holding generated efforts, with demographics at test. */
+function sessionDocument(efforts: readonly GeneratedEffort[]): SessionDocument {
+  return {
+    format: SESSION_DOCUMENT_FORMAT,
+    metadata: { subjectCode: 'S-0001', visit: 'V2', bronchodilator: 'pre', demographics: { ageYears: 40, heightCm: 175, sex: 'male' } },
+    efforts: efforts.map(({ recording }) => ({
+      label: recording.label,
+      signal: recording.signal,
+      sampleRateHz: recording.sampleRateHz,
+      startTimeS: recording.startTimeS,
+      values: Array.from(recording.values),
+    })),
+  };
+}
+
+// Closed form for PEF 8 L/s, tr 0.1 s, tau 0.6 s: FVC 5.200000, time zero 0.05 s, BEV 0.100000,
 // FEV1 4.214610, FEV6 5.199763, FEF25-75 3.944370.
 const REFERENCE_CURVE: AnalyticCurve = { pefLPerS: 8, riseS: 0.1, tauS: 0.6 };
 
@@ -124,13 +142,13 @@ describe('analyze command', () => {
     rmSync(dir, { recursive: true, force: true });
   });
 
-  it('reports the analytic curve of engine.md section 9 within ATS/ERS 2005 Table 6 accuracy', () => {
+  it('reports the closed-form analytic curve within ATS/ERS 2005 Table 6 accuracy', () => {
     const e1 = file('e1.csv', analyticCsv(REFERENCE_CURVE));
     const output = parseOutput(runAnalyze([e1]));
     expect(output.efforts).toHaveLength(1);
     const effort = output.efforts[0];
     expect(effort.file).toBe('e1.csv');
-    // Time zero on the file's axis: 0.5 s lead-in + tr/2 = 0.55 s (engine.md section 9).
+    // Time zero on the file's axis: 0.5 s lead-in + tr/2 = 0.55 s (closed form: tangent at the peak).
     expect(effort.timeZero).toBeCloseTo(0.55, 2);
     // BEV 0.100 L with the tangent at the peak; the protocol's 80 ms steepest-slope window (Miller MR et al. 2005,
     // from memory) lowers it by a few hundredths on this sharp-cornered curve, so only closeness is checked.
@@ -166,7 +184,7 @@ describe('analyze command', () => {
     expect(withinVolumeAccuracy(output.session.fvc as number, 5.2)).toBe(true);
     expect(withinVolumeAccuracy(output.session.fev1 as number, 4.21461)).toBe(true);
     expect(output.session.fev1FvcRatio as number).toBeCloseTo((output.session.fev1 as number) / (output.session.fvc as number), 12);
-    // engine.md section 9: FEV1/FVC = 0.810502.
+    // Closed form: FEV1/FVC = 4.214610 / 5.200000 = 0.810502.
     expect(Math.abs((output.session.fev1FvcRatio as number) - 0.810502)).toBeLessThan(0.01);
   });
 
@@ -199,6 +217,55 @@ describe('analyze command', () => {
     }
   });
 
+  it('analyses generated efforts with tidal breathing written as CSVs, against the generator\'s exact values', () => {
+    // Generated at 100 Hz with tidal breaths, full inspiration and a cough in the first second of effort 3.
+    const efforts = generateSession(
+      { efforts: 3, base: { sampleRateHz: 100, tidalBreaths: 2 }, perEffort: [undefined, undefined, { faults: ['cough-first-second'] }] },
+      11,
+    );
+    const files = efforts.map(({ recording }) => file(recording.label, effortToCsv(recording)));
+    const output = parseOutput(runAnalyze(files));
+    output.efforts.forEach((effort, index) => {
+      const truth = efforts[index].truth;
+      // ATS/ERS 2005 (Miller MR et al.), Table 6: FVC and FEV1 within 3 % or 0.050 L.
+      expect(withinVolumeAccuracy(effort.fvc, truth.fvcL)).toBe(true);
+      expect(withinVolumeAccuracy(effort.fev1, truth.fev1L)).toBe(true);
+    });
+    // Table 7 (Graham BL et al. 2019, from memory): a cough in the first second rules out FEV1, not FVC.
+    expect(output.efforts[2].findings).toContain('cough-first-second');
+    expect(output.efforts[2].fev1Verdict).toBe('not_acceptable');
+    expect(output.efforts[0].fev1Verdict).toBe('acceptable');
+    expect(output.efforts[1].fev1Verdict).toBe('acceptable');
+  });
+
+  it('reads a Tidemark session JSON and the same session as a FHIR Bundle alike', () => {
+    const document = sessionDocument(generateSession({ efforts: 3, base: { sampleRateHz: 200 } }, 5));
+    const fromJson = parseOutput(runAnalyze([file('session.json', JSON.stringify(document))]));
+    const fromFhir = parseOutput(runAnalyze([file('bundle.json', JSON.stringify(buildFhirBundle(document)))]));
+    expect(fromJson.efforts.map((effort) => effort.file)).toEqual(['effort-1.csv', 'effort-2.csv', 'effort-3.csv']);
+    expect(fromFhir.efforts).toHaveLength(3);
+    expect(fromFhir.session.fev1Grade).toBe(fromJson.session.fev1Grade);
+    // The FHIR waveform carries the samples with a scale factor: equal to 1 mL (common practice).
+    expect(Math.abs((fromFhir.session.fvc as number) - (fromJson.session.fvc as number))).toBeLessThan(0.001);
+    // Demographics come from the session's metadata; no reference folder -> ECSC/ERS 1993 (Quanjer PH et al. 1993):
+    // FVC male = 5.76 H(m) - 0.026 age - 4.34.
+    const noReference = parseOutput(runAnalyze([file('session2.json', JSON.stringify(document))], { TIDEMARK_REFERENCE_DIR: undefined }));
+    expect(noReference.session.predicted?.fvc.predicted).toBeCloseTo(5.76 * 1.75 - 0.026 * 40 - 4.34, 6);
+  });
+
+  it('refuses a session JSON of an unknown format, naming the field', () => {
+    const result = runAnalyze([file('odd.json', JSON.stringify({ format: 'other/9', efforts: [] }))]);
+    expect(result.status).toBe(1);
+    expect(result.stdout).toBe('');
+    expect(result.stderr).toMatch(/odd\.json: format is "other\/9"/);
+  });
+
+  it('refuses effort CSVs mixed with a session file', () => {
+    const result = runAnalyze([file('m1.csv', analyticCsv(REFERENCE_CURVE)), file('m2.json', '{}')]);
+    expect(result.status).toBe(2);
+    expect(result.stdout).toBe('');
+  });
+
   it('refuses a zip entry with a path outside the archive', () => {
     const zip = zipSync({ 'a.csv': strToU8(analyticCsv(REFERENCE_CURVE)), '../escape.csv': strToU8(analyticCsv(REFERENCE_CURVE)) });
     const result = runAnalyze([file('escape.zip', zip)]);
@@ -215,6 +282,7 @@ describe('analyze command', () => {
     expect(result.stderr.trim().split('\n')).toHaveLength(1);
     expect(result.stderr).toMatch(/bad-header\.csv/);
     expect(result.stderr).toMatch(/header/i);
+    expect(result.stderr).toMatch(/row 1/);
   });
 
   it('refuses a non-numeric cell, naming its row and column', () => {

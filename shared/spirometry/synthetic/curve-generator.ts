@@ -51,6 +51,7 @@ export interface EffortTruth {
   readonly allowedFindings: readonly FindingCode[];
 }
 
+/** One generated effort with the exact values of its noise-free curve. */
 export interface GeneratedEffort {
   readonly recording: Recording;
   readonly truth: EffortTruth;
@@ -62,7 +63,8 @@ const INSPIRATORY_CAPACITY_L = 2.6;
 const MAX_INSPIRATION_S = 1.3;
 const POST_INSPIRATION_S = 1.8;
 const ZERO_DRIFT_L_PER_S = 0.06;
-const SUBSTEPS = 8;
+/** Simpson sub-steps per second of recording when integrating flow to volume (even per sample). */
+const SUBSTEPS_PER_S = 4000;
 
 const FAULT_FINDINGS: Readonly<Record<EffortFault, { expected: FindingCode[]; allowed: FindingCode[] }>> = {
   'slow-start': { expected: ['bev-excessive'], allowed: ['peak-late'] },
@@ -92,7 +94,7 @@ const sin2 = (x: number): number => Math.sin(x) ** 2;
  * Generates one effort recording, deterministic for a given seed: lead-in, optional
  * tidal breaths and maximal inspiration, pause, the blow, optional inspiration after
  * it (and a second blow for `double-breath`), a still tail. Volume is the integral of
- * the flow (Simpson, 8 sub-steps per sample); noise is added after the truth is taken.
+ * the flow (Simpson, sub-steps of at most 0.25 ms); noise is added after the truth is taken.
  */
 export function generateEffort(spec: EffortSpec, seed: number): GeneratedEffort {
   const faults = spec.faults ?? [];
@@ -152,11 +154,12 @@ export function generateEffort(spec: EffortSpec, seed: number): GeneratedEffort 
   const flow = new Float64Array(n);
   const volume = new Float64Array(n);
   flow[0] = flowAt(0);
-  const h = dt / SUBSTEPS;
+  const substeps = 2 * Math.max(1, Math.ceil(SUBSTEPS_PER_S / rate / 2));
+  const h = dt / substeps;
   for (let i = 1; i < n; i++) {
     const a = (i - 1) * dt;
     let sum = flow[i - 1];
-    for (let k = 1; k < SUBSTEPS; k++) sum += (k % 2 === 1 ? 4 : 2) * flowAt(a + k * h);
+    for (let k = 1; k < substeps; k++) sum += (k % 2 === 1 ? 4 : 2) * flowAt(a + k * h);
     flow[i] = flowAt(i * dt);
     sum += flow[i];
     volume[i] = volume[i - 1] + (sum * h) / 3;
@@ -205,7 +208,7 @@ function earlyEndDurationS(shape: BlowShape): number {
   return shape.riseTimeS / 2 + FAULT_TIMES_S.earlyEnd + FAULT_TIMES_S.earlyEndTaper + 0.3;
 }
 
-const TRUTH_STEP_S = 1e-4;
+const TRUTH_STEP_S = 2.5e-4;
 
 /** Integrates the noise-free blow finely and finds its peak and time zero. */
 function integrateBlow(blowFlow: (u: number) => number, durationS: number) {

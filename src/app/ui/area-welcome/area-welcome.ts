@@ -22,6 +22,12 @@ export class AreaWelcome {
   /** Whether to list the sites of each assignment (site coordinators work per site). */
   readonly showSites = input(false, { transform: booleanAttribute });
   readonly resultsHeading = input('Results');
+  /** Readable labels for site ids; an id without a label is shown as it is. */
+  readonly siteLabels = input<Readonly<Record<string, string>>>({});
+
+  protected siteLabel(siteId: string): string {
+    return this.siteLabels()[siteId] ?? siteId;
+  }
 
   protected readonly studySummary = computed(() => {
     const count = this.assignments().length;
