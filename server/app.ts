@@ -13,6 +13,7 @@ import { AuthService } from './auth/auth-service.js';
 import type { OidcRelyingParty } from './auth/oidc-relying-party.js';
 import type { AppConfig } from './config.js';
 import { pingDatabase, type TidemarkDatabase } from './db/database.js';
+import { formatRoutes } from './formats/format-routes.js';
 import { healthRoutes } from './health/health-routes.js';
 import { HealthService } from './health/health-service.js';
 import { ApiRouteRegistry } from './http/api-route.js';
@@ -108,6 +109,7 @@ export function createApp(deps: AppDependencies): { app: Express; registry: ApiR
   );
   app.use(healthRoutes(registry, health, APP_VERSION));
   app.use(studyRoutes(registry, studies));
+  app.use(formatRoutes(registry));
   app.use(['/api', '/auth'], apiNotFound);
 
   serveWebClient(app, config.webDir);

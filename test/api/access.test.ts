@@ -203,3 +203,14 @@ describe('sessions, CSRF and API tokens', () => {
     expect((await client.fetch(`${tidemark.url}/api/me`)).status).toBe(401);
   });
 });
+
+describe('published formats', () => {
+  it('publishes the session JSON Schema and the finding codes', async () => {
+    const schema = (await (await fetch(`${tidemark.url}/api/formats/tidemark-session.schema.json`)).json()) as {
+      properties: { format: { const: string } };
+    };
+    expect(schema.properties.format.const).toBe('tidemark-session/1');
+    const codes = (await (await fetch(`${tidemark.url}/api/formats/finding-codes`)).json()) as { code: string }[];
+    expect(codes.map((c) => c.code)).toEqual(expect.arrayContaining(['bev-excessive', 'end-early', 'cough-first-second']));
+  });
+});
