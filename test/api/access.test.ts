@@ -52,6 +52,29 @@ describe('health and the API description', () => {
     }
   });
 
+  it('documents every route the app mounts, so none can bypass the registry and its access rule', async () => {
+    const doc = (await (await fetch(`${tidemark.url}/api/openapi.json`)).json()) as { paths: Record<string, object> };
+    const documented = new Set(
+      Object.entries(doc.paths).flatMap(([path, methods]) =>
+        Object.keys(methods).map((method) => `${method} ${path.replace(/\{(\w+)\}/g, ':$1')}`),
+      ),
+    );
+    type Layer = { route?: { path: string; methods: Record<string, boolean> }; handle?: { stack?: Layer[] } };
+    const mounted: string[] = [];
+    const walk = (stack: Layer[]) => {
+      for (const layer of stack) {
+        if (layer.route) {
+          for (const method of Object.keys(layer.route.methods)) mounted.push(`${method} ${layer.route.path}`);
+        }
+        if (layer.handle?.stack) walk(layer.handle.stack);
+      }
+    };
+    walk((tidemark.app as unknown as { router: { stack: Layer[] } }).router.stack);
+    const apiRoutes = mounted.filter((route) => / \/(api|auth)\//.test(route));
+    expect(apiRoutes.length).toBeGreaterThanOrEqual(10);
+    expect(apiRoutes.filter((route) => !documented.has(route))).toEqual([]);
+  });
+
   it('answers an unknown API path with a JSON 404 naming it', async () => {
     const response = await fetch(`${tidemark.url}/api/no-such-thing`);
     expect(response.status).toBe(404);
