@@ -12,12 +12,15 @@ import { type MeasuredEffort, measureEffortDetailed } from './effort-metrics.js'
 import { toDualSignal } from './signal.js';
 
 /**
- * Curve-processing parameters when the protocol rule set gives none. Status marks as in
- * engine.md: [memory] recalled from the standard, [practice] no published source.
+ * Curve-processing parameters when the protocol rule set gives none (the same values as the
+ * default rule set). [memory]: recalled from the standard, not read in the primary text;
+ * [practice]: common practice, no published source.
  */
 export const DEFAULT_ENGINE_PARAMETERS: EngineParameters = {
   minSampleRateHz: 100, // [memory] ATS/ERS 2019: flow sampled at 100 Hz or more
-  backExtrapolationWindowS: 0.08, // [memory] ATS/ERS 2005: steepest slope over 80 ms
+  // [memory] ATS/ERS 2019: the line through the point of peak flow with slope equal to peak flow
+  // (0: no window); a study may set 0.080 s for the ATS/ERS 2005 practice of the steepest 80 ms [memory].
+  backExtrapolationWindowS: 0,
   bevMaxFractionOfFvc: 0.05, // [memory] ATS/ERS 2019: BEV <= 5 % of FVC or 0.100 L, whichever is greater
   bevMaxL: 0.1, // [memory] ATS/ERS 2019
   hesitationMaxS: 2, // [memory] ATS/ERS 2019: hesitation time 2 s or less
@@ -39,24 +42,36 @@ export const MIN_RECORDING_DURATION_S = 1;
 /** Plots carry at most about this many points per series. */
 export const MAX_PLOT_POINTS = 1500;
 
-/** One effort analysed: what was measured, what was noticed, and what to draw. */
+/** One effort analysed: what was measured, what was noticed, and (on request) what to draw. */
 export interface RecordingAnalysis {
   readonly metrics: EffortMetrics;
   readonly findings: Finding[];
-  readonly plot: PlotSeries;
+  /** Null unless {@link AnalysisOptions.plot} asked for it. */
+  readonly plot: PlotSeries | null;
+}
+
+/** Options of the per-effort analysis. */
+export interface AnalysisOptions {
+  /** Build the plot series (for the reader's screen); the analysis alone does not need them. */
+  readonly plot?: boolean;
 }
 
 /**
  * Analyses one recording: checks its sampling, derives both signals, finds the
- * forced blow, measures it and lists the per-effort findings. Throws
- * {@link SpirometryInputError} (`sample-rate`, `too-few-samples`, `no-blow`).
+ * forced blow, measures it and lists the per-effort findings; builds the plot series
+ * when asked. Throws {@link SpirometryInputError} (`sample-rate`, `too-few-samples`,
+ * `non-finite`, `no-blow`).
  */
-export function analyzeRecording(rec: Recording, params: EngineParameters = DEFAULT_ENGINE_PARAMETERS): RecordingAnalysis {
+export function analyzeRecording(
+  rec: Recording,
+  params: EngineParameters = DEFAULT_ENGINE_PARAMETERS,
+  options: AnalysisOptions = {},
+): RecordingAnalysis {
   checkSampling(rec, params);
   const sig = toDualSignal(rec);
   const measured = measureEffortDetailed(sig, params, rec.label);
-  const findings = findEffortFindings(sig, measured.metrics, params);
-  return { metrics: measured.metrics, findings, plot: buildPlotSeries(sig, measured) };
+  const findings = findEffortFindings(sig, measured, params);
+  return { metrics: measured.metrics, findings, plot: options.plot ? buildPlotSeries(sig, measured) : null };
 }
 
 function checkSampling(rec: Recording, params: EngineParameters): void {
@@ -92,31 +107,37 @@ function checkSampling(rec: Recording, params: EngineParameters): void {
 export function buildPlotSeries(sig: DualSignal, measured: MeasuredEffort): PlotSeries {
   const { metrics, blow, timeZero } = measured;
   const n = sig.volumeL.length;
+  const flow = sig.flowLPerS;
   const stride = Math.max(1, Math.ceil(n / (MAX_PLOT_POINTS / 2)));
-  const keep: number[] = [];
+  // Marks instead of a sorted set: the kept indices come out in order in one pass.
+  const keep = new Uint8Array(n);
   for (let start = 0; start < n; start += stride) {
     const end = Math.min(n, start + stride);
     let lo = start;
     let hi = start;
     for (let i = start + 1; i < end; i++) {
-      if (sig.flowLPerS[i] < sig.flowLPerS[lo]) lo = i;
-      if (sig.flowLPerS[i] > sig.flowLPerS[hi]) hi = i;
+      if (flow[i] < flow[lo]) lo = i;
+      if (flow[i] > flow[hi]) hi = i;
     }
-    keep.push(lo, hi);
+    keep[lo] = 1;
+    keep[hi] = 1;
   }
-  keep.push(n - 1, blow.maxInspirationIndex, blow.peakFlowIndex, blow.endOfExpirationIndex);
-  const indices = [...new Set(keep)].sort((a, b) => a - b);
+  keep[n - 1] = 1;
+  keep[blow.maxInspirationIndex] = 1;
+  keep[blow.peakFlowIndex] = 1;
+  keep[metrics.endOfExpirationIndex] = 1;
   const ref = blow.referenceVolumeL;
   const t0 = metrics.timeZeroS;
   const timeS: number[] = [];
   const volumeL: number[] = [];
   const flowLPerS: number[] = [];
-  for (const i of indices) {
+  for (let i = 0; i < n; i++) {
+    if (keep[i] === 0) continue;
     timeS.push(round(sig.startTimeS + i / sig.sampleRateHz - t0, 5));
     volumeL.push(round(sig.volumeL[i] - ref, 5));
-    flowLPerS.push(round(sig.flowLPerS[i], 4));
+    flowLPerS.push(round(flow[i], 4));
   }
-  // The line meets the start volume at time zero and runs through the steepest window.
+  // The line meets the start volume at time zero and runs to the point of peak flow (or through the steepest window).
   const lineEndS = timeZero.windowEndTimeS - t0;
   return {
     timeS,

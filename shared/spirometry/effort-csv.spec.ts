@@ -4,7 +4,7 @@ import { DEFAULT_ENGINE_PARAMETERS, analyzeRecording } from './effort-analysis.j
 import { SpirometryInputError } from './model.js';
 import { effortToCsv, generateEffort } from './synthetic/curve-generator.js';
 
-/** `rows` seconds of a 100 Hz volume ramp, formatted as the effort CSV contract (formats.md section 1). */
+/** `rows` seconds of a 100 Hz volume ramp, formatted as an effort CSV (header, then time and value per row). */
 function csv(header: string, seconds = 2, rateHz = 100, eol = '\n'): string {
   const lines = [header];
   for (let i = 0; i <= seconds * rateHz; i++) lines.push(`${(i / rateHz).toFixed(3)},${(i * 0.001).toFixed(4)}`);
@@ -21,7 +21,7 @@ function errorOf(run: () => unknown): SpirometryInputError {
   throw new Error('expected a SpirometryInputError');
 }
 
-describe('parseEffortCsv (contract: formats.md section 1)', () => {
+describe('parseEffortCsv (effort CSV: time_s with volume_l or flow_l_s)', () => {
   it('reads both accepted headers and derives the sampling rate', () => {
     const volume = parseEffortCsv(csv('time_s,volume_l'), 'e1.csv');
     expect(volume.signal).toBe('volume');

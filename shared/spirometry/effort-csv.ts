@@ -1,4 +1,5 @@
 import { type Recording, type SignalKind, SpirometryInputError } from './model.js';
+import { toFloat64Array } from './signal.js';
 
 /** Limits applied while reading an effort CSV. */
 export interface EffortCsvOptions {
@@ -26,7 +27,7 @@ const ACCEPTED_HEADER_LIST = Object.keys(ACCEPTED_HEADERS)
   .join(' or ');
 
 /**
- * Reads one effort CSV (formats.md section 1): header `time_s,volume_l` or
+ * Reads one effort CSV: header `time_s,volume_l` or
  * `time_s,flow_l_s`, then one row per uniformly spaced sample. Tolerates a byte-order
  * mark, CRLF line ends, spaces around cells and trailing blank lines; anything else
  * is a {@link SpirometryInputError} naming the file, the row (1-based line of the file)
@@ -152,7 +153,7 @@ export function parseEffortCsv(
       `sampling rate ${sampleRateHz.toFixed(1)} Hz is below the minimum of ${options.minSampleRateHz} Hz`,
     );
   }
-  return { signal: signal as SignalKind, sampleRateHz, startTimeS: times[0], values: Float64Array.from(values), label: fileName };
+  return { signal: signal as SignalKind, sampleRateHz, startTimeS: times[0], values: toFloat64Array(values), label: fileName };
 }
 
 function readNumber(

@@ -4,8 +4,8 @@ import type { FindingCode, SignalKind } from './model.js';
 import { type EffortFault, type EffortSpec, generateEffort } from './synthetic/curve-generator.js';
 
 // Each fault is built into a synthetic curve so that the rule it breaks is clear from its
-// definition (ATS/ERS 2019 Table 7 as reconstructed in engine.md section 3 [memory], or
-// engine.md section 2 for the common-practice findings); the curve must show that finding,
+// definition (ATS/ERS 2019 (Graham 2019) Table 7, reconstructed from memory, or common
+// practice for the other findings); the curve must show that finding,
 // and nothing but what the fault implies.
 const FAULT_CASES: [EffortFault, string][] = [
   ['slow-start', 'BEV above the greater of 5 % FVC and 0.100 L (ATS/ERS 2019, from memory)'],
@@ -75,8 +75,9 @@ describe('per-effort findings on synthetic curves', () => {
     const { recording, truth } = generateEffort({ faults: ['slow-start'], sampleRateHz: 1000 }, 5);
     const finding = analyzeRecording(recording, DEFAULT_ENGINE_PARAMETERS).findings.find((f) => f.code === 'bev-excessive');
     expect(finding?.message).toMatch(/^BEV 0\.\d{3} L = \d+\.\d % of FVC; limit 0\.\d{3} L \(greater of 5 % of FVC and 0\.100 L\)$/);
-    // Measured BEV within 0.025 L of the curve's own (the 80 ms window lowers it slightly; see time-zero.ts).
-    expect(Math.abs((finding?.values['bevL'] ?? 0) - truth.bevL)).toBeLessThan(0.025);
+    // Measured BEV within 0.015 L of the curve's own, both by the line through the point of peak flow with slope PEF
+    // (ATS/ERS 2019, from memory); sensor noise moves the measured peak slightly.
+    expect(Math.abs((finding?.values['bevL'] ?? 0) - truth.bevL)).toBeLessThan(0.015);
   });
 
   it('names the first-second glottic stop with its time after time zero', () => {

@@ -1,5 +1,6 @@
 import type { DualSignal, EffortMetrics, EngineParameters, Finding } from './model.js';
-import { type ForcedBlow, locateForcedBlow } from './forced-blow.js';
+import type { MeasuredEffort } from './effort-metrics.js';
+import type { ForcedBlow } from './forced-blow.js';
 import { movingAverage, sampleTimeS } from './signal.js';
 
 /** Detector tuning. All common practice, tuned on our synthetic curves so that clean efforts give no finding. */
@@ -28,11 +29,13 @@ export const DETECTOR_TUNING = {
 const fmt = (x: number, digits: number): string => x.toFixed(digits);
 
 /**
- * Per-effort automated findings (engine.md section 2), each explained with its numbers.
+ * Per-effort automated findings, each explained with its numbers: the ATS/ERS 2019 (Graham 2019)
+ * quality criteria (thresholds from memory, in the rule set) and common-practice detectors.
  * `blow-submaximal` needs the session and is not produced here.
  */
-export function findEffortFindings(sig: DualSignal, metrics: EffortMetrics, params: EngineParameters): Finding[] {
-  const blow = locateForcedBlow(sig, 'recording');
+export function findEffortFindings(sig: DualSignal, measured: MeasuredEffort, params: EngineParameters): Finding[] {
+  const { metrics, blow } = measured;
+  const endIndex = measured.endOfExpiration.index;
   const flowS = movingAverage(sig.flowLPerS, sig.sampleRateHz, DETECTOR_TUNING.smoothingS);
   const findings: Finding[] = [];
   const add = (code: Finding['code'], message: string, values: Record<string, number>): void => {
@@ -97,7 +100,7 @@ export function findEffortFindings(sig: DualSignal, metrics: EffortMetrics, para
       { atS: stop.timeS - metrics.timeZeroS, fromFlowLPerS: stop.fromFlowLPerS, toFlowLPerS: stop.toFlowLPerS },
     );
   }
-  const coughs = findCoughs(sig, flowS, blow, params, stop?.index ?? -1);
+  const coughs = findCoughs(sig, flowS, blow, endIndex, params, stop?.index ?? -1);
   const firstEarly = coughs.find((c) => c.timeS <= firstSecondEndS);
   const firstLate = coughs.find((c) => c.timeS > firstSecondEndS);
   for (const [cough, code] of [
@@ -128,7 +131,9 @@ export function findEffortFindings(sig: DualSignal, metrics: EffortMetrics, para
   let runMax = v[blow.peakFlowIndex];
   let deepest = 0;
   let deepestIndex = -1;
-  for (let i = blow.peakFlowIndex; i <= blow.endOfExpirationIndex; i++) {
+  // A fall followed by more expiration lies before the blow's largest volume.
+  const dipSearchEnd = Math.min(endIndex, blow.maxVolumeIndex);
+  for (let i = blow.peakFlowIndex; i <= dipSearchEnd; i++) {
     if (v[i] > runMax) runMax = v[i];
     else if (runMax - v[i] > deepest) {
       deepest = runMax - v[i];
@@ -196,24 +201,42 @@ interface Cough {
 }
 
 /** Local minima of smoothed flow between peak and end of expiration that recover on both sides within the window. */
-function findCoughs(sig: DualSignal, flowS: Float64Array, blow: ForcedBlow, params: EngineParameters, stopIndex: number): Cough[] {
+function findCoughs(
+  sig: DualSignal,
+  flowS: Float64Array,
+  blow: ForcedBlow,
+  endIndex: number,
+  params: EngineParameters,
+  stopIndex: number,
+): Cough[] {
   const w = Math.max(2, Math.round(DETECTOR_TUNING.coughRecoveryWindowS * sig.sampleRateHz));
   const stopHold = Math.round(DETECTOR_TUNING.glotticHoldS * sig.sampleRateHz) + w;
   const coughs: Cough[] = [];
-  const last = Math.min(flowS.length - 2, blow.endOfExpirationIndex);
+  const n = flowS.length;
+  const minDip = DETECTOR_TUNING.coughMinDipLPerS;
+  // A dip (its low at least -stop flow) must recover to minDip above its low: past the last sample
+  // that high, no minimum can be a cough, which spares the search the long quiet tail.
+  const recoveryFloor = minDip - params.glotticStopFlowLPerS - 1e-9;
+  let lastHigh = Math.min(n - 1, endIndex + w);
+  while (lastHigh > blow.peakFlowIndex && !(flowS[lastHigh] >= recoveryFloor)) lastHigh--;
+  const last = Math.min(n - 2, endIndex, lastHigh - 1);
   for (let m = blow.peakFlowIndex + 1; m <= last; m++) {
-    if (!(flowS[m] <= flowS[m - 1] && flowS[m] < flowS[m + 1])) continue;
+    const low = flowS[m];
+    if (!(low <= flowS[m - 1] && low < flowS[m + 1])) continue;
     if (stopIndex >= 0 && m >= stopIndex && m <= stopIndex + stopHold) continue;
     // Flow reversing is a breath in, reported as such, not a cough.
-    if (flowS[m] < -params.glotticStopFlowLPerS) continue;
-    let pre = -Infinity;
+    if (low < -params.glotticStopFlowLPerS) continue;
+    // Recovery after the low first: on a falling flow it fails at once, and then the depth cannot reach minDip.
     let post = -Infinity;
-    for (let j = Math.max(0, m - w); j < m; j++) pre = Math.max(pre, flowS[j]);
-    for (let j = m + 1; j <= Math.min(flowS.length - 1, m + w); j++) post = Math.max(post, flowS[j]);
+    const postEnd = Math.min(n - 1, m + w);
+    for (let j = m + 1; j <= postEnd; j++) if (flowS[j] > post) post = flowS[j];
+    if (post - low < minDip) continue;
+    let pre = -Infinity;
+    for (let j = Math.max(0, m - w); j < m; j++) if (flowS[j] > pre) pre = flowS[j];
     const around = Math.min(pre, post);
-    const depth = around - flowS[m];
-    if (depth >= DETECTOR_TUNING.coughMinDipLPerS && depth >= params.coughDipFraction * around) {
-      coughs.push({ timeS: sampleTimeS(sig, m), lowLPerS: flowS[m], aroundLPerS: around, depthFraction: depth / around });
+    const depth = around - low;
+    if (depth >= minDip && depth >= params.coughDipFraction * around) {
+      coughs.push({ timeS: sampleTimeS(sig, m), lowLPerS: low, aroundLPerS: around, depthFraction: depth / around });
       m += w;
     }
   }

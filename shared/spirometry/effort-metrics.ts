@@ -1,7 +1,8 @@
 import type { DualSignal, EffortMetrics, EngineParameters } from './model.js';
+import { type EndOfExpiration, findEndOfExpiration } from './end-of-expiration.js';
 import { type ForcedBlow, locateForcedBlow } from './forced-blow.js';
 import { firstUpwardCrossingTimeS, sampleTimeS, valueAtTime } from './signal.js';
-import { type TimeZero, findTimeZero } from './time-zero.js';
+import { type PeakFlow, type TimeZero, findTimeZero } from './time-zero.js';
 
 /** PEF is the highest flow sample or the highest mean volume slope over this span (s), whichever is larger [practice]. */
 export const PEF_VOLUME_SLOPE_SPAN_S = 0.01;
@@ -11,12 +12,15 @@ export interface MeasuredEffort {
   readonly metrics: EffortMetrics;
   readonly blow: ForcedBlow;
   readonly timeZero: TimeZero;
+  readonly endOfExpiration: EndOfExpiration;
 }
 
 /**
- * Measures one effort (engine.md section 1): time zero and BEV by back-extrapolation,
- * FEV0.75/FEV1/FEV6 as the volume at time zero + t (BEV included, linear interpolation),
- * FVC, PEF, FEF25/50/75, FEF25-75, FET, hesitation time, FIVC and the end-of-test evidence.
+ * Measures one effort by the ATS/ERS definitions (Graham 2019; Miller 2005; details from
+ * memory): time zero and BEV by back-extrapolation, FEV0.75/FEV1/FEV6 as the volume at
+ * time zero + t (BEV included, linear interpolation), FVC (the largest expired volume of
+ * the blow), PEF, FEF25/50/75, FEF25-75, FET (time zero to the end of forced expiration),
+ * hesitation time, FIVC and the end-of-test evidence.
  * Volumes are relative to maximal inspiration. `repeatsPriorFvc` is left false: it needs
  * the session.
  */
@@ -24,17 +28,20 @@ export function measureEffort(sig: DualSignal, params: EngineParameters, label =
   return measureEffortDetailed(sig, params, label).metrics;
 }
 
-/** {@link measureEffort} with the located blow and the back-extrapolation line. */
+/** {@link measureEffort} with the located blow, the back-extrapolation line and the end of expiration. */
 export function measureEffortDetailed(sig: DualSignal, params: EngineParameters, label = 'recording'): MeasuredEffort {
   const blow = locateForcedBlow(sig, label);
-  const timeZero = findTimeZero(sig, blow, params.backExtrapolationWindowS);
+  // End of forced expiration: where the plateau is reached, else the last expiratory sample
+  // (before the breath in or the end of the recording); FET runs from time zero to it.
+  const end = findEndOfExpiration(sig, blow, params.plateauWindowS, params.plateauMaxVolumeChangeL);
+  const peak = peakExpiratoryFlow(sig, blow, end.index);
+  const timeZero = findTimeZero(sig, blow, params.backExtrapolationWindowS, peak);
   const v = sig.volumeL;
   const ref = blow.referenceVolumeL;
   const t0 = timeZero.timeZeroS;
   const fvcL = v[blow.maxVolumeIndex] - ref;
   const lastExpiratoryTimeS = sampleTimeS(sig, blow.lastExpiratoryIndex);
-  const endTimeS = sampleTimeS(sig, blow.endOfExpirationIndex);
-  const fetS = endTimeS - t0;
+  const fetS = end.timeS - t0;
 
   const volumeAt = (timeS: number): number | null => {
     if (timeS > lastExpiratoryTimeS + 1e-9) return null;
@@ -42,13 +49,8 @@ export function measureEffortDetailed(sig: DualSignal, params: EngineParameters,
     return value === null ? null : value - ref;
   };
 
-  // Plateau: the last second of the expiratory phase, up to the breath in or the end of the
-  // recording, so that a subject who empties fast and stays on the mouthpiece shows one,
-  // and one who breathes in (or is cut off) while still exhaling does not.
   const startTimeS = sampleTimeS(sig, blow.maxInspirationIndex);
-  const windowStartS = Math.max(startTimeS, lastExpiratoryTimeS - params.plateauWindowS);
-  const lastSecondVolumeChangeL = (valueAtTime(sig, v, lastExpiratoryTimeS) ?? 0) - (valueAtTime(sig, v, windowStartS) ?? 0);
-  const plateau = lastExpiratoryTimeS - t0 >= params.plateauWindowS && lastSecondVolumeChangeL <= params.plateauMaxVolumeChangeL;
+  const plateau = end.plateau;
   const longExpiration = fetS >= params.longExpirationFetS;
 
   // FEV6 needs the subject still on the mouthpiece, not breathing in, at 6 s, and a blow that
@@ -66,7 +68,7 @@ export function measureEffortDetailed(sig: DualSignal, params: EngineParameters,
   const fef75 = fefAt(0.75);
   const fef2575LPerS = fef25 && fef75 && fef75.timeS > fef25.timeS ? (0.5 * fvcL) / (fef75.timeS - fef25.timeS) : null;
 
-  const pefLPerS = peakExpiratoryFlow(sig, blow);
+  const pefLPerS = peak.pefLPerS;
   const postMin = blow.postBlowMinVolumeL;
   const metrics: EffortMetrics = {
     timeZeroS: t0,
@@ -86,32 +88,50 @@ export function measureEffortDetailed(sig: DualSignal, params: EngineParameters,
     fivcL: postMin === null ? null : v[blow.maxVolumeIndex] - postMin,
     endOfTest: {
       met: plateau || longExpiration,
-      lastSecondVolumeChangeL,
+      lastSecondVolumeChangeL: end.windowVolumeChangeL,
       plateau,
       longExpiration,
       repeatsPriorFvc: false,
     },
     maxInspirationIndex: blow.maxInspirationIndex,
     peakFlowIndex: blow.peakFlowIndex,
-    endOfExpirationIndex: blow.endOfExpirationIndex,
+    endOfExpirationIndex: end.index,
   };
-  return { metrics, blow, timeZero };
+  return { metrics, blow, timeZero, endOfExpiration: end };
 }
 
 /**
- * PEF without smoothing: the larger of the highest flow sample and the highest mean
- * volume slope over 10 ms (at least one sample interval). For flow input the second
- * never exceeds the first; for volume input it avoids the low bias of central
- * differences at a sharp peak (engine.md section 9 curve at 100 Hz: 7.93 instead of 7.77 L/s).
+ * PEF without smoothing, and its point on the volume-time curve: the larger of the highest
+ * flow sample and the highest mean volume slope over 10 ms (at least one sample interval).
+ * For flow input the second never exceeds the first; for volume input it avoids the low
+ * bias of central differences at a sharp peak (our analytic test curve, PEF 8 L/s, at
+ * 100 Hz: 7.93 instead of 7.77 L/s). The point of a chord is its midpoint, so that the line
+ * through it with the chord's slope is the chord itself.
  */
-function peakExpiratoryFlow(sig: DualSignal, blow: ForcedBlow): number {
+function peakExpiratoryFlow(sig: DualSignal, blow: ForcedBlow, endIndex: number): PeakFlow {
   const v = sig.volumeL;
   const m = Math.max(1, Math.round(PEF_VOLUME_SLOPE_SPAN_S * sig.sampleRateHz));
-  let best = sig.flowLPerS[blow.peakFlowIndex];
-  const last = Math.min(v.length - 1, blow.endOfExpirationIndex);
+  const p = blow.peakFlowIndex;
+  const sampleFlow = sig.flowLPerS[p];
+  let chordSlope = -Infinity;
+  let chordStart = -1;
+  const last = Math.min(v.length - 1, endIndex);
   for (let i = blow.maxInspirationIndex; i + m <= last; i++) {
     const slope = ((v[i + m] - v[i]) * sig.sampleRateHz) / m;
-    if (slope > best) best = slope;
+    if (slope > chordSlope) {
+      chordSlope = slope;
+      chordStart = i;
+    }
   }
-  return best;
+  const ref = blow.referenceVolumeL;
+  // A volume signal's central difference at the peak is itself one of the chords: equal
+  // slopes (to rounding) take the chord's line, so that rounding cannot switch the anchor.
+  if (chordStart < 0 || chordSlope < sampleFlow - 1e-12 * Math.abs(sampleFlow)) {
+    return { pefLPerS: sampleFlow, timeS: sampleTimeS(sig, p), volumeL: v[p] - ref };
+  }
+  return {
+    pefLPerS: Math.max(chordSlope, sampleFlow),
+    timeS: sampleTimeS(sig, chordStart + m / 2),
+    volumeL: (v[chordStart] + v[chordStart + m]) / 2 - ref,
+  };
 }

@@ -67,7 +67,7 @@ function errorOf(run: () => unknown): SpirometryInputError {
   throw new Error('expected a SpirometryInputError');
 }
 
-describe('HL7 FHIR R4 Bundle (formats.md section 3)', () => {
+describe('HL7 FHIR R4 Bundle', () => {
   it('round-trips a session through buildFhirBundle and parseFhirBundle', () => {
     const doc = sessionOf();
     const back = parseFhirBundle(JSON.parse(JSON.stringify(buildFhirBundle(doc))));

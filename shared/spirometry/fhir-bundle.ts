@@ -54,7 +54,7 @@ const num = (x: unknown): number | undefined => (typeof x === 'number' && Number
 const codings = (concept: unknown): Json[] => arr(obj(concept)?.['coding']).map(obj).filter((c): c is Json => !!c);
 
 /**
- * Reads an HL7 FHIR R4 Bundle (formats.md section 3) into a session document, validated
+ * Reads an HL7 FHIR R4 Bundle into a session document, validated
  * like any session JSON. Throws {@link SpirometryInputError} (`fhir-bundle`, `fhir-no-efforts`,
  * `fhir-data`, `fhir-signal`, `fhir-period`) naming the Observation and what is wrong.
  */

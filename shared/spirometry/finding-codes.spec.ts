@@ -12,7 +12,7 @@ function verdictsCost(code: FindingCode): [boolean, boolean, boolean, boolean] {
 }
 
 describe('FINDING_CATALOGUE', () => {
-  // ATS/ERS 2019 Table 7 as reconstructed in engine.md section 3 [memory]: each row lists whether the
+  // ATS/ERS 2019 (Graham 2019) Table 7, reconstructed from memory: each row lists whether the
   // criterion is required for acceptable FEV1, acceptable FVC, usable FEV1, usable FVC.
   const TABLE_7: [FindingCode, string, [boolean, boolean, boolean, boolean]][] = [
     ['bev-excessive', 'BEV <= 5 % of FVC or 0.100 L', [true, true, true, true]],
@@ -44,7 +44,7 @@ describe('FINDING_CATALOGUE', () => {
       expect(d.explanation.length).toBeGreaterThan(40);
       expect(d.source.length).toBeGreaterThan(5);
     }
-    // Only the submaximal blow compares efforts (engine.md section 2: PEF well below the session's best).
+    // Only the submaximal blow compares efforts (common practice: PEF well below the session's best).
     expect(Object.values(FINDING_CATALOGUE).filter((d) => d.sessionLevel).map((d) => d.code)).toEqual(['blow-submaximal']);
   });
 });

@@ -1,6 +1,6 @@
 import type { FindingCode } from './model.js';
 
-/** How sure we are of the rule behind a finding (engine.md status marks). */
+/** How sure we are of the rule behind a finding: read in the standard, recalled from memory, or common practice. */
 export type SourceStatus = 'verified' | 'memory' | 'practice';
 
 /** One entry of the finding catalogue: what a finding code means to a reader. */
@@ -12,7 +12,7 @@ export interface FindingDescription {
   readonly explanation: string;
   /**
    * Verdicts the finding bears on in the ATS/ERS 2019 Table 7 acceptability rules
-   * (engine.md section 3). Empty: no rule uses it; it is shown for the reader's judgement.
+   * (reconstructed from memory). Empty: no rule uses it; it is shown for the reader's judgement.
    */
   readonly affects: readonly ('fev1' | 'fvc')[];
   /** Which verdict levels it can cost: acceptable only, or acceptable and usable. */
@@ -24,7 +24,7 @@ export interface FindingDescription {
   readonly sessionLevel: boolean;
 }
 
-const ATS_ERS_2019 = 'Graham BL et al., ATS/ERS 2019, Table 7 (reconstructed, engine.md section 3)';
+const ATS_ERS_2019 = 'Graham BL et al., ATS/ERS 2019, Table 7 (reconstructed from memory)';
 
 /**
  * The documented list of Tidemark's finding codes. Codes are part of our interface

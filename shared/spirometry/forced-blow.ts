@@ -8,11 +8,9 @@ export interface ForcedBlow {
   readonly referenceVolumeL: number;
   /** Sample with the largest expiratory flow. */
   readonly peakFlowIndex: number;
-  /** End of forced expiration: first sample within {@link END_OF_EXPIRATION_TOLERANCE_L} of the blow's largest volume. */
-  readonly endOfExpirationIndex: number;
   /** Sample with the largest volume of the blow (FVC = its volume - reference). */
   readonly maxVolumeIndex: number;
-  /** Last sample still at the blow's end volume before an inspiration follows (or the last sample of the recording). */
+  /** Last expiratory sample: the last one within {@link END_OF_EXPIRATION_TOLERANCE_L} of the blow's largest volume before an inspiration follows, or the last sample of the recording. */
   readonly lastExpiratoryIndex: number;
   /** Whether an inspiration follows the blow in the recording. */
   readonly inspirationFollows: boolean;
@@ -26,7 +24,7 @@ export const INSPIRATION_FALL_L = 0.1;
 export const BLOW_ENDING_INSPIRATION_L = 0.5;
 /** Samples within this volume (L) of the lowest one count as the same maximal inspiration (a pause at full inspiration) [practice]. */
 export const MAX_INSPIRATION_TIE_L = 0.005;
-/** The blow ends at the first sample within this volume (L) of its largest volume; the tail is noise [practice]. */
+/** Before a breath in, samples within this volume (L) of the blow's largest volume still count as expiration; less is noise [practice]. */
 export const END_OF_EXPIRATION_TOLERANCE_L = 0.005;
 /** Below this peak flow (L/s) the recording holds no forced expiration [practice]. */
 export const MIN_BLOW_PEAK_FLOW_L_PER_S = 1;
@@ -38,8 +36,9 @@ export const MIN_BLOW_VOLUME_L = 0.2;
  * maximal inspiration and a pause before it, a flat tail and an inspiration after it.
  * The blow is around the largest expiratory flow; it starts at maximal inspiration
  * (lowest volume before the peak, walking back until the volume rises again, i.e.
- * past the inspiration) and ends where the volume stops rising before the next
- * inspiration or the end of the recording. A short breath in during the blow after
+ * past the inspiration); its expiratory phase lasts until the next inspiration or
+ * the end of the recording (where forced expiration ended within that phase is
+ * `findEndOfExpiration`'s answer). A short breath in during the blow after
  * which expiration goes on past the earlier volume does not end the blow.
  * Throws `no-blow` when there is no forced expiration.
  */
@@ -108,10 +107,6 @@ export function locateForcedBlow(sig: DualSignal, label: string): ForcedBlow {
       { file: label },
     );
   }
-  let endOfExpirationIndex = p;
-  while (endOfExpirationIndex < maxIdx && v[endOfExpirationIndex] < maxVolumeL - END_OF_EXPIRATION_TOLERANCE_L) {
-    endOfExpirationIndex++;
-  }
   let lastExpiratoryIndex = n - 1;
   let postBlowMinVolumeL: number | null = null;
   if (inspirationStart >= 0) {
@@ -131,7 +126,6 @@ export function locateForcedBlow(sig: DualSignal, label: string): ForcedBlow {
     maxInspirationIndex,
     referenceVolumeL,
     peakFlowIndex: p,
-    endOfExpirationIndex,
     maxVolumeIndex: maxIdx,
     lastExpiratoryIndex,
     inspirationFollows: inspirationStart >= 0,

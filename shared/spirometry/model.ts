@@ -63,7 +63,7 @@ export interface Finding {
 export interface EndOfTest {
   /** Whether any EOFE criterion is met. */
   readonly met: boolean;
-  /** Volume change (L) over the last 1 s of expiration. */
+  /** Volume change (L) over the last 1 s of expiration (the plateau window ending at the end of forced expiration). */
   readonly lastSecondVolumeChangeL: number;
   /** Whether the plateau criterion (<= limit in the last 1 s) is met. */
   readonly plateau: boolean;
@@ -92,7 +92,11 @@ export interface EffortMetrics {
   readonly fef50LPerS: number | null;
   readonly fef75LPerS: number | null;
   readonly fef2575LPerS: number | null;
-  /** Forced expiratory time, time zero to end of forced expiration (s). */
+  /**
+   * Forced expiratory time (s): time zero to the end of forced expiration, which is where the
+   * plateau is first reached, or else the last expiratory sample (before a breath in or the
+   * end of the recording).
+   */
   readonly fetS: number;
   /** Inspiratory vital capacity after the blow, when the recording has one. */
   readonly fivcL: number | null;
@@ -116,15 +120,20 @@ export interface PlotSeries {
 export interface EngineParameters {
   /** Minimum sampling rate accepted (Hz). */
   readonly minSampleRateHz: number;
-  /** Window over which the steepest volume slope is taken for back-extrapolation (s). */
+  /**
+   * Back-extrapolation of time zero (s). 0: the line through the point of peak flow with slope
+   * equal to peak flow (ATS/ERS 2019, from memory); above 0: the steepest volume slope over this
+   * window (0.080 s is the ATS/ERS 2005 practice, from memory).
+   */
   readonly backExtrapolationWindowS: number;
   /** BEV limit: the greater of this fraction of FVC ... */
   readonly bevMaxFractionOfFvc: number;
   /** ... and this volume (L). */
   readonly bevMaxL: number;
   readonly hesitationMaxS: number;
-  /** Plateau: volume change in the last 1 s at or below this (L). */
+  /** Plateau: forced expiration ends where the volume gained over the preceding window is at or below this (L). */
   readonly plateauMaxVolumeChangeL: number;
+  /** The plateau window (s). */
   readonly plateauWindowS: number;
   /** FET at or above which expiration counts as ended (s). */
   readonly longExpirationFetS: number;

@@ -1,6 +1,7 @@
 import { describe, expect, it } from '@jest/globals';
 import { readFileSync } from 'node:fs';
 import path from 'node:path';
+import { DEFAULT_ENGINE_PARAMETERS } from './effort-analysis.js';
 import { REQUIRED_RULE_IDS, ProtocolRuleSetError, isChildAge, resolveProtocol, type ProtocolRuleSet } from './protocol.js';
 
 const ruleSet = JSON.parse(readFileSync(path.resolve('protocols/ats-ers-2019.v1.json'), 'utf8')) as ProtocolRuleSet;
@@ -38,8 +39,19 @@ describe('default rule set ats-ers-2019 v1', () => {
       fivcExcessMaxL: 0.1,
       fivcExcessMaxFractionOfFvc: 0.05,
     });
-    // Miller MR et al. 2005 (ATS/ERS), Table 6 back-extrapolation; 80 ms window from memory.
-    expect(protocol.engine.backExtrapolationWindowS).toBe(0.08);
+    // Graham BL et al. 2019 (ATS/ERS), from memory: back-extrapolation through the point of peak flow with slope
+    // equal to peak flow, which the rule set writes as a window of 0 (the 2005 practice of 80 ms is an option).
+    expect(protocol.engine.backExtrapolationWindowS).toBe(0);
+  });
+
+  it('is the engine\'s built-in default', () => {
+    // The rule set and DEFAULT_ENGINE_PARAMETERS carry the same values (both cite Graham BL et al. 2019, from memory).
+    expect(protocol.engine).toEqual(DEFAULT_ENGINE_PARAMETERS);
+  });
+
+  it('lets a study choose the ATS/ERS 2005 80 ms window (Miller MR et al. 2005, from memory)', () => {
+    const windowed = resolveProtocol(withRule('time-zero.back-extrapolation-window', { value: 0.08 }));
+    expect(windowed.engine.backExtrapolationWindowS).toBe(0.08);
   });
 
   it('carries the Table 10 tolerances (Graham BL et al. 2019, via a faithful transcription)', () => {
@@ -78,6 +90,7 @@ describe('refusing an invalid rule set, naming the rule', () => {
     ['a wrong value type', 'bev.max-volume', { value: '0.1' }, /"bev.max-volume": value must be a number/],
     ['a wrong unit', 'bev.max-volume', { unit: 'mL' }, /"bev.max-volume": unit must be "L"/],
     ['an out-of-range value', 'bev.max-fraction-of-fvc', { value: 5 }, /"bev.max-fraction-of-fvc": value 5 is outside/],
+    ['a negative window', 'time-zero.back-extrapolation-window', { value: -0.01 }, /"time-zero.back-extrapolation-window": value -0.01 is outside 0-1 s/],
     ['an unknown grade', 'study.min-grade-for-endpoint', { value: 'Z' }, /"study.min-grade-for-endpoint": value must be one of/],
     ['an unknown finding code', 'acceptability.bev.findings', { value: 'bev-too-big' }, /unknown finding code "bev-too-big"/],
     ['an unknown status', 'hesitation.max-time', { status: 'guessed' }, /rule "hesitation.max-time"/],

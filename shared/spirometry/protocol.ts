@@ -4,6 +4,7 @@
  * the standard is a data change (a new rule-set version), not a code change.
  */
 import { z } from 'zod';
+import { BRONCHODILATOR_METHODS, type BronchodilatorMethod } from './interpretation/bronchodilator-response.js';
 import type { EngineParameters, FindingCode, Grade } from './model.js';
 
 /** How well a rule's value is founded. */
@@ -84,8 +85,6 @@ const FINDING_CODES: Record<FindingCode, true> = {
 };
 
 const GRADES: readonly Grade[] = ['A', 'B', 'C', 'D', 'E', 'U', 'F'];
-export const BRONCHODILATOR_METHODS = ['ers-ats-2022', 'ats-ers-2005'] as const;
-export type BronchodilatorMethod = (typeof BRONCHODILATOR_METHODS)[number];
 
 /** One acceptability criterion as the rule set defines it. */
 export interface AcceptabilityCriterion {

@@ -20,7 +20,8 @@ export interface EffortAnalysis {
   readonly metrics: EffortMetrics;
   readonly findings: readonly Finding[];
   readonly verdicts: EffortVerdicts;
-  readonly plot: PlotSeries;
+  /** Null unless {@link SessionAnalysisOptions.plots} asked for them. */
+  readonly plot: PlotSeries | null;
 }
 
 /** Predicted values of the reported results; each entry may be unavailable with a reason. */
@@ -59,6 +60,8 @@ export interface SessionAnalysisOptions {
   /** Age also selects the child grade tolerances and FEV0.75 rules. */
   readonly demographics?: Partial<Demographics>;
   readonly equations?: ReferenceEquations;
+  /** Build each effort's plot series (for the reader's screen); off by default, the analysis does not need them. */
+  readonly plots?: boolean;
 }
 
 function gradedValues(efforts: readonly EffortAnalysis[], pick: (effort: EffortAnalysis) => { valueL: number | null; verdict: string }): GradedValue[] {
@@ -104,7 +107,8 @@ export function analyzeSession(
   options: SessionAnalysisOptions = {},
 ): SessionAnalysis {
   const ageYears = options.demographics?.ageYears;
-  const single = recordings.map((recording) => analyzeRecording(recording, protocol.engine));
+  const effortOptions = { plot: options.plots === true };
+  const single = recordings.map((recording) => analyzeRecording(recording, protocol.engine, effortOptions));
   const evidence = applySessionFindings(
     single.map((effort) => ({ metrics: effort.metrics, findings: effort.findings })),
     protocol,

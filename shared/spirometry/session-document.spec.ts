@@ -43,7 +43,7 @@ function errorOf(run: () => unknown): SpirometryInputError {
   throw new Error('expected a SpirometryInputError');
 }
 
-describe('Tidemark session JSON (formats.md section 2)', () => {
+describe('Tidemark session JSON (tidemark-session/1)', () => {
   it('survives a JSON round trip unchanged', () => {
     const doc = sessionOf();
     const back = parseSessionDocument(JSON.parse(JSON.stringify(doc)));
@@ -73,6 +73,24 @@ describe('Tidemark session JSON (formats.md section 2)', () => {
       (d) => ({ ...d, efforts: [{ label: 'e1', signal: 'flow', sampleRateHz: 100, values: [0, 'x', 1] }] }),
       'session-json',
       /efforts\[0\]\.values\[1\]: /,
+    ],
+    [
+      'a single sample',
+      (d) => ({ ...d, efforts: [{ label: 'e1', signal: 'flow', sampleRateHz: 100, values: [0] }] }),
+      'session-json',
+      /efforts\[0\]\.values: Too small/,
+    ],
+    [
+      'an infinite sample (from a program, not JSON text)',
+      (d) => ({ ...d, efforts: [{ label: 'e1', signal: 'flow', sampleRateHz: 100, values: [0, 1, Infinity] }] }),
+      'session-json',
+      /efforts\[0\]\.values\[2\]: /,
+    ],
+    [
+      'samples that are not a list',
+      (d) => ({ ...d, efforts: [{ label: 'e1', signal: 'flow', sampleRateHz: 100, values: '0,1,2' }] }),
+      'session-json',
+      /efforts\[0\]\.values: /,
     ],
     ['unknown signal', (d) => ({ ...d, efforts: [{ label: 'e1', signal: 'pressure', sampleRateHz: 100, values: [0, 1] }] }), 'session-json', /efforts\[0\]\.signal: /],
     ['bronchodilator misspelt', (d) => ({ ...d, metadata: { bronchodilator: 'before' } }), 'session-json', /metadata\.bronchodilator: /],

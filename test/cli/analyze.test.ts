@@ -148,11 +148,17 @@ describe('analyze command', () => {
     expect(output.efforts).toHaveLength(1);
     const effort = output.efforts[0];
     expect(effort.file).toBe('e1.csv');
-    // Time zero on the file's axis: 0.5 s lead-in + tr/2 = 0.55 s (closed form: tangent at the peak).
-    expect(effort.timeZero).toBeCloseTo(0.55, 2);
-    // BEV 0.100 L with the tangent at the peak; the protocol's 80 ms steepest-slope window (Miller MR et al. 2005,
-    // from memory) lowers it by a few hundredths on this sharp-cornered curve, so only closeness is checked.
-    expect(Math.abs(effort.bev - 0.1)).toBeLessThanOrEqual(0.02);
+    // Time zero on the file's axis: 0.5 s lead-in + tr/2 = 0.55 s, and BEV = PEF tr/8 = 0.100 L (closed form of the
+    // line through the point of peak flow with slope PEF, ATS/ERS 2019, from memory); a volume CSV's 10 ms chords put
+    // time zero under 1 ms early.
+    expect(Math.abs(effort.timeZero - 0.55)).toBeLessThanOrEqual(0.001);
+    expect(Math.abs(effort.bev - 0.1)).toBeLessThanOrEqual(0.0025);
+    // FET: from time zero to the first time the volume gained over the last second falls to 0.025 L (ATS/ERS 2019
+    // plateau, from memory). Closed form: V(t) - V(t - 1) = PEF tau e^{-(t - tr)/tau} (e^{1/tau} - 1) = 0.025 L
+    // gives t_e = tr + tau ln(PEF tau (e^{1/tau} - 1) / 0.025) = 4.129 s after the onset.
+    const { pefLPerS: pef, riseS: tr, tauS: tau } = REFERENCE_CURVE;
+    const endS = tr + tau * Math.log((pef * tau * (Math.exp(1 / tau) - 1)) / 0.025);
+    expect(Math.abs(effort.fet - (endS - tr / 2))).toBeLessThanOrEqual(0.002);
     expect(withinVolumeAccuracy(effort.fvc, 5.2)).toBe(true);
     expect(withinVolumeAccuracy(effort.fev1, 4.21461)).toBe(true);
     expect(withinVolumeAccuracy(effort.fev6 as number, 5.199763)).toBe(true);

@@ -3,7 +3,7 @@ import { assessBronchodilatorResponse, assessParameterResponse } from './broncho
 
 describe('bronchodilator response', () => {
   it('ERS/ATS 2022: pre 2.5 L, post 3.0 L, predicted 4.0 L is 12.5 % of predicted, significant', () => {
-    // Stanojevic 2022 criterion (> 10 % of predicted); worked check from engine.md section 7.
+    // Stanojevic 2022 criterion (> 10 % of predicted); worked by hand: (3.0 - 2.5) / 4.0 = 12.5 %.
     const response = assessParameterResponse('ers-ats-2022', { preL: 2.5, postL: 3.0, predictedL: 4.0 });
     expect(response.changePercentOfPredicted).toBeCloseTo(12.5, 12);
     expect(response.significant).toBe(true);

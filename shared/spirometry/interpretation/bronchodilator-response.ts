@@ -5,7 +5,10 @@
  * - `ats-ers-2005`: increase >= 12 % of the pre-bronchodilator value
  *   and >= 200 mL, in FEV1 or FVC (Pellegrino R, et al. Eur Respir J 2005;26:948-968, Table 9).
  */
-export type BronchodilatorMethod = 'ers-ats-2022' | 'ats-ers-2005';
+export const BRONCHODILATOR_METHODS = ['ers-ats-2022', 'ats-ers-2005'] as const;
+
+/** A bronchodilator-response criterion a protocol can name (see above). */
+export type BronchodilatorMethod = (typeof BRONCHODILATOR_METHODS)[number];
 
 /** Pre and post values of one parameter (FEV1 or FVC), in litres. */
 export interface BronchodilatorPair {

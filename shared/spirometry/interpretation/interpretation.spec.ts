@@ -32,7 +32,7 @@ describe('ERS/ATS 2022 interpretation', () => {
     const result = interpretSpirometry(input);
     expect(result.pattern).toBe(pattern);
     expect(result.severity).toBe(severity);
-    // engine.md section 7 / ERS/ATS 2022: the text always carries the review caution.
+    // Common practice: the text always carries the caution that it supports, and does not replace, review by qualified staff.
     expect(result.text.endsWith(REVIEW_CAUTION)).toBe(true);
   });
 

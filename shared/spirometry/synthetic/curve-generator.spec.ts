@@ -11,7 +11,7 @@ describe('synthetic curve generator', () => {
     expect(effortToCsv(a.recording)).not.toBe(effortToCsv(c.recording));
   });
 
-  it('has the time zero and BEV of its sin^2 rise, derived from the engine.md definition', () => {
+  it('has the time zero and BEV of its sin^2 rise, derived from the ATS/ERS 2019 back-extrapolation definition (from memory)', () => {
     // Line through the peak (at tr) with slope PEF: t0 = tr - V(tr)/PEF = tr/2 since V(tr) = PEF tr/2;
     // BEV = integral of PEF sin^2(pi t/(2 tr)) from 0 to tr/2 = PEF tr (1/4 - 1/(2 pi)). Our derivation.
     const pef = 7;

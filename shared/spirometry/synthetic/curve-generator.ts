@@ -264,7 +264,7 @@ export function generateSession(spec: SessionSpec, seed: number): GeneratedEffor
   return out;
 }
 
-/** Writes a recording as an effort CSV (formats.md section 1). */
+/** Writes a recording as an effort CSV (header `time_s,volume_l` or `time_s,flow_l_s`, as `parseEffortCsv` reads it). */
 export function effortToCsv(rec: Recording): string {
   const timeDecimals = Math.max(3, Math.ceil(Math.log10(rec.sampleRateHz)) + 1);
   const header = rec.signal === 'volume' ? 'time_s,volume_l' : 'time_s,flow_l_s';
