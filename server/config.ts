@@ -118,3 +118,12 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): AppConfig {
     },
   };
 }
+
+/**
+ * The folder a command was started from. `npm run` moves to the package root, and npm
+ * keeps the caller's folder in INIT_CWD, so relative paths given on a command line stay
+ * relative to where the user typed them.
+ */
+export function callerWorkingDirectory(env: NodeJS.ProcessEnv = process.env): string {
+  return env['INIT_CWD'] ?? process.cwd();
+}

@@ -17,7 +17,7 @@
 import { readFileSync, statSync } from 'node:fs';
 import path from 'node:path';
 import { parseArgs } from 'node:util';
-import { loadConfig } from '../config.js';
+import { callerWorkingDirectory, loadConfig } from '../config.js';
 import { ProtocolCatalogueError, loadProtocol } from '../protocols/protocol-catalogue.js';
 import { DEFAULT_EFFORT_CSV_OPTIONS, parseEffortCsv } from '../../shared/spirometry/effort-csv.js';
 import type { Demographics, Ethnicity, EquationsId, PredictedValue, Recording } from '../../shared/spirometry/model.js';
@@ -49,16 +49,17 @@ interface Inputs {
 }
 
 function readInputFile(file: string): Buffer {
+  const resolved = path.resolve(callerWorkingDirectory(), file);
   let size: number;
   try {
-    size = statSync(file).size;
+    size = statSync(resolved).size;
   } catch {
     throw new SpirometryInputError('file-missing', `${file}: no such file`, { file });
   }
   if (size > MAX_FILE_BYTES) {
     throw new SpirometryInputError('file-too-large', `${file}: ${size} bytes is more than the ${MAX_FILE_BYTES} accepted`, { file });
   }
-  return readFileSync(file);
+  return readFileSync(resolved);
 }
 
 function decodeUtf8(bytes: Uint8Array, file: string): string {
@@ -238,6 +239,10 @@ function parseCommandLine(argv: string[]): Options {
  * The equations to use: the named set, else GLI Global 2022 when the reference
  * folder holds its workbook, else the built-in ECSC/ERS 1993 set.
  */
+function resolveReferenceDir(dir: string | undefined): string | undefined {
+  return dir === undefined ? undefined : path.resolve(callerWorkingDirectory(), dir);
+}
+
 async function chooseEquations(options: Options, referenceDir: string | undefined): Promise<ReferenceEquations> {
   const { loadReferenceEquations, REFERENCE_FILES } = await import('../reference-sets/reference-loader.js');
   let id = options.equations;
@@ -354,7 +359,7 @@ async function run(argv: string[]): Promise<string> {
   if (!complete && partial) {
     throw new UsageError('predicted values need --age, --height-cm and --sex together');
   }
-  const equations = complete ? await chooseEquations(options, options.referenceDir ?? loadConfig().referenceDir) : undefined;
+  const equations = complete ? await chooseEquations(options, resolveReferenceDir(options.referenceDir ?? loadConfig().referenceDir)) : undefined;
   const analysis = analyzeSession(inputs.recordings, protocol, { demographics, equations });
   return JSON.stringify(toOutput(analysis, demographics));
 }

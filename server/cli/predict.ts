@@ -6,9 +6,10 @@
  * empty where the set has no value. The reference folder defaults to TIDEMARK_REFERENCE_DIR.
  */
 import { readFile } from 'node:fs/promises';
+import path from 'node:path';
 import { parseArgs } from 'node:util';
 import { parse } from 'csv-parse/sync';
-import { loadConfig } from '../config.js';
+import { callerWorkingDirectory, loadConfig } from '../config.js';
 import type { Demographics, Ethnicity, PredictedValue, ReferenceParameter } from '../../shared/spirometry/model.js';
 import { SpirometryInputError } from '../../shared/spirometry/model.js';
 import { PARAMETER_LABELS, type ReferenceEquations } from '../../shared/spirometry/reference/reference-equations.js';
@@ -113,12 +114,13 @@ async function run(argv: string[]): Promise<void> {
   const id = values.equations;
   if (!id || !isEquationsId(id)) throw new UsageError(`--equations must be one of ${EQUATIONS_IDS.join(', ')}.`);
   if (positionals.length !== 1) throw new UsageError('Give exactly one input CSV file.');
-  const referenceDir = values['reference-dir'] ?? loadConfig().referenceDir;
+  const configuredDir = values['reference-dir'] ?? loadConfig().referenceDir;
+  const referenceDir = configuredDir === undefined ? undefined : path.resolve(callerWorkingDirectory(), configuredDir);
   if (!referenceDir && id !== 'ecsc-1993') {
     throw new UsageError(`${id} needs reference tables: pass --reference-dir or set TIDEMARK_REFERENCE_DIR.`);
   }
   const equations = await loadReferenceEquations(id, referenceDir ?? '.');
-  const rows = readDemographics(await readFile(positionals[0], 'utf8'), equations);
+  const rows = readDemographics(await readFile(path.resolve(callerWorkingDirectory(), positionals[0]), 'utf8'), equations);
 
   const uncovered = OUTPUT_PARAMETERS.filter(({ parameter }) => !equations.parameters.includes(parameter));
   if (uncovered.length > 0) {
