@@ -1,18 +1,9 @@
 import { describe, expect, it } from '@jest/globals';
+import { captureInputError as errorOf } from './testing/capture-input-error.js';
 import { DEFAULT_ENGINE_PARAMETERS, MAX_PLOT_POINTS, analyzeRecording } from './effort-analysis.js';
-import { SpirometryInputError } from './model.js';
 import { toDualSignal } from './signal.js';
 import { generateEffort } from './synthetic/curve-generator.js';
 
-function errorOf(run: () => unknown): SpirometryInputError {
-  try {
-    run();
-  } catch (error) {
-    if (error instanceof SpirometryInputError) return error;
-    throw error;
-  }
-  throw new Error('expected a SpirometryInputError');
-}
 
 describe('analyzeRecording', () => {
   it('finds the blow after tidal breathing and measures FIVC from the inspiration after it', () => {

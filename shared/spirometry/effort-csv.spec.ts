@@ -1,7 +1,7 @@
 import { describe, expect, it } from '@jest/globals';
+import { captureInputError as errorOf } from './testing/capture-input-error.js';
 import { parseEffortCsv } from './effort-csv.js';
 import { DEFAULT_ENGINE_PARAMETERS, analyzeRecording } from './effort-analysis.js';
-import { SpirometryInputError } from './model.js';
 import { effortToCsv, generateEffort } from './synthetic/curve-generator.js';
 
 /** `rows` seconds of a 100 Hz volume ramp, formatted as an effort CSV (header, then time and value per row). */
@@ -11,15 +11,6 @@ function csv(header: string, seconds = 2, rateHz = 100, eol = '\n'): string {
   return lines.join(eol) + eol;
 }
 
-function errorOf(run: () => unknown): SpirometryInputError {
-  try {
-    run();
-  } catch (error) {
-    if (error instanceof SpirometryInputError) return error;
-    throw error;
-  }
-  throw new Error('expected a SpirometryInputError');
-}
 
 describe('parseEffortCsv (effort CSV: time_s with volume_l or flow_l_s)', () => {
   it('reads both accepted headers and derives the sampling rate', () => {

@@ -1,7 +1,7 @@
 import { describe, expect, it } from '@jest/globals';
+import { captureInputError as errorOf } from './testing/capture-input-error.js';
 import { DEFAULT_ENGINE_PARAMETERS, analyzeRecording } from './effort-analysis.js';
 import { EFFORT_SIGNAL_SYSTEM, buildFhirBundle, parseFhirBundle } from './fhir-bundle.js';
-import { SpirometryInputError } from './model.js';
 import { type SessionDocument, sessionDocumentToRecordings } from './session-document.js';
 import { generateSession } from './synthetic/curve-generator.js';
 
@@ -57,15 +57,6 @@ function middlewareBundle(data: string, unit = 'L/s'): Json {
   };
 }
 
-function errorOf(run: () => unknown): SpirometryInputError {
-  try {
-    run();
-  } catch (error) {
-    if (error instanceof SpirometryInputError) return error;
-    throw error;
-  }
-  throw new Error('expected a SpirometryInputError');
-}
 
 describe('HL7 FHIR R4 Bundle', () => {
   it('round-trips a session through buildFhirBundle and parseFhirBundle', () => {

@@ -1,5 +1,5 @@
 import { describe, expect, it } from '@jest/globals';
-import { SpirometryInputError } from './model.js';
+import { captureInputError as errorOf } from './testing/capture-input-error.js';
 import {
   type SessionDocument,
   parseSessionDocument,
@@ -33,15 +33,6 @@ function sessionOf(efforts = 2): SessionDocument {
   };
 }
 
-function errorOf(run: () => unknown): SpirometryInputError {
-  try {
-    run();
-  } catch (error) {
-    if (error instanceof SpirometryInputError) return error;
-    throw error;
-  }
-  throw new Error('expected a SpirometryInputError');
-}
 
 describe('Tidemark session JSON (tidemark-session/1)', () => {
   it('survives a JSON round trip unchanged', () => {
