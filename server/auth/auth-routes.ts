@@ -13,6 +13,8 @@ import type { AuthService } from './auth-service.js';
 import type { OidcRelyingParty } from './oidc-relying-party.js';
 
 const LOGIN_COOKIE = 'tidemark_login';
+/** Set at sign-out so the next sign-in in this browser asks for the password again, even if the provider's own session lives on. */
+const SIGNED_OUT_COOKIE = 'tidemark_signed_out';
 
 /** Only same-site paths, so a crafted link cannot bounce a fresh session to another host. */
 function safeReturnPath(value: unknown): string {
@@ -39,8 +41,9 @@ export function authRoutes(deps: {
     query: z.object({ returnTo: z.string().optional() }),
     successStatus: 303,
     responseDescription: 'Redirect to the identity provider',
-    handler: async ({ res, query }) => {
-      const signIn = await relyingParty.beginSignIn();
+    handler: async ({ req, res, query }) => {
+      const signIn = await relyingParty.beginSignIn({ forceLogin: req.cookies?.[SIGNED_OUT_COOKIE] === '1' });
+      res.clearCookie(SIGNED_OUT_COOKIE, cookieBase);
       auth.recordLoginAttempt({
         state: signIn.state,
         codeVerifier: signIn.codeVerifier,
@@ -98,6 +101,7 @@ export function authRoutes(deps: {
     handler: ({ res, principal }) => {
       if (principal?.session) auth.endSession(principal.session.idHash);
       res.clearCookie(SESSION_COOKIE, cookieBase);
+      res.cookie(SIGNED_OUT_COOKIE, '1', { ...cookieBase, maxAge: 30 * 24 * 3600_000 });
     },
   });
 

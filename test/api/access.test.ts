@@ -219,11 +219,17 @@ describe('sessions, CSRF and API tokens', () => {
     expect(((await unknown.json()) as { error: { code: string } }).error.code).toBe('token-invalid');
   });
 
-  it('ends the session on sign-out', async () => {
+  it('ends the session on sign-out, and makes the next sign-in in that browser ask for the password again', async () => {
     const { client, csrfToken } = await signIn(tidemark.url, 'admin@tidemark.example');
     const out = await client.fetch(`${tidemark.url}/auth/logout`, { method: 'POST', headers: { 'x-csrf-token': csrfToken } });
     expect(out.status).toBe(204);
     expect((await client.fetch(`${tidemark.url}/api/me`)).status).toBe(401);
+
+    const again = await client.fetch(`${tidemark.url}/auth/login?returnTo=/setup`);
+    const authorizationUrl = new URL(again.headers.get('location')!);
+    expect(authorizationUrl.searchParams.get('prompt')).toBe('login');
+    const afterThat = await client.fetch(`${tidemark.url}/auth/login?returnTo=/setup`);
+    expect(new URL(afterThat.headers.get('location')!).searchParams.get('prompt')).toBeNull();
   });
 });
 
