@@ -3,6 +3,7 @@ import http from 'node:http';
 import type { AddressInfo } from 'node:net';
 import express from 'express';
 import Provider, { type KoaContextWithOIDC } from 'oidc-provider';
+import { memoryAdapterFactory } from './memory-adapter.js';
 
 /** An account the local identity provider knows. Passwords exist only in this fake. */
 export interface FakeAccount {
@@ -51,6 +52,7 @@ export async function startFakeIdentityProvider(options: {
   const { privateKey } = generateKeyPairSync('rsa', { modulusLength: 2048 });
 
   const provider = new Provider(issuer, {
+    adapter: memoryAdapterFactory(),
     clients: [
       {
         client_id: options.client.clientId,
