@@ -9,12 +9,36 @@ export const DETECTOR_TUNING = {
   smoothingS: 0.02,
   /** A cough dip must recover within this time (s) either side of its lowest point. */
   coughRecoveryWindowS: 0.15,
-  /** ... and be at least this deep (L/s), whatever its relative depth. */
-  coughMinDipLPerS: 0.3,
-  /** Glottic closure: flow falls from at least this multiple of the stop flow ... */
-  glotticFromFactor: 4,
-  /** ... and stays near zero (within twice the stop flow either way) for this long (s), or until the recording ends. */
+  /**
+   * ... and be at least this deep (L/s), whatever its relative depth. Low enough for a cough
+   * late in an obstructed blow, where the flow is only 0.2-0.4 L/s; the 20 ms smoothing keeps
+   * sensor noise (0.03 L/s a sample) and cardiogenic oscillation (a 1 Hz swing recovers far
+   * less within the recovery window) well below it.
+   */
+  coughMinDipLPerS: 0.12,
+  /**
+   * Glottic closure: the smoothed flow falls through the stop flow after a steady flow of at
+   * least this multiple of it (mean over `glotticSteadyS` ending half the fall time before) ... An
+   * obstructed lung still empties at 0.12-0.4 L/s after the first second, and a closure there
+   * loses flow x slow time constant, half a litre or more. What tells a closure from the
+   * natural decay (which takes a third of a second or more to halve), from a cardiogenic swing
+   * (about 1 Hz, so adjacent tenths of a second differ by about its amplitude) and from noise
+   * (averaged out over a tenth of a second) is a large step between two means:
+   */
+  glotticFromFactor: 1.2,
+  glotticSteadyS: 0.1,
+  /** ... then stays near zero (within this multiple of the stop flow either way) ... */
+  glotticHoldFactor: 0.75,
+  /** ... for this long (s) after the fall time, or until the recording ends ... */
   glotticHoldS: 0.1,
+  /** ... and the mean flow held is at least this multiple of the stop flow below the steady flow before ... */
+  glotticMinDropFactor: 1,
+  /**
+   * ... and across the fall time centred on the crossing the flow falls by at least this multiple
+   * of the stop flow: a closure falls all the way within it, a quick taper (the subject giving up
+   * over half a second) only part of the way.
+   */
+  glotticMinFallFactor: 0.8,
   /** A fall of volume below its running maximum during the blow larger than this (L) is a breath in. */
   inspirationDipL: 0.025,
   /** Zero drift is measured on a still stretch (|flow| at most this, L/s) before the blow ... */
@@ -168,27 +192,52 @@ interface GlotticStop {
   readonly toFlowLPerS: number;
 }
 
-/** First abrupt fall of flow to about zero after the peak: from >= 4x the stop flow to <= the stop flow within the fall time, held. */
+/**
+ * First abrupt stop of flow after the peak: the smoothed flow falls through the stop flow, by at
+ * least 0.8x the stop flow across the fall time centred there. In the tenth of a second ending
+ * half a fall time before, its mean was at least 1.2x the stop flow; in the tenth of a second from
+ * half a fall time after, it stays within 0.75x the stop flow of zero, its mean there at least the
+ * stop flow below the mean before.
+ */
 function findGlotticStop(sig: DualSignal, flowS: Float64Array, blow: ForcedBlow, params: EngineParameters): GlotticStop | null {
   const stopFlow = params.glotticStopFlowLPerS;
-  const fromFlow = DETECTOR_TUNING.glotticFromFactor * stopFlow;
-  const fallSamples = Math.max(1, Math.round(params.glotticStopFallTimeS * sig.sampleRateHz));
-  const holdSamples = Math.max(1, Math.round(DETECTOR_TUNING.glotticHoldS * sig.sampleRateHz));
+  const tuning = DETECTOR_TUNING;
+  const fromFlow = tuning.glotticFromFactor * stopFlow;
+  const holdLimit = tuning.glotticHoldFactor * stopFlow;
+  const minDrop = tuning.glotticMinDropFactor * stopFlow;
+  const minFall = tuning.glotticMinFallFactor * stopFlow;
+  const halfFall = Math.max(1, Math.round((params.glotticStopFallTimeS * sig.sampleRateHz) / 2));
+  const steadySamples = Math.max(1, Math.round(tuning.glotticSteadyS * sig.sampleRateHz));
+  const holdSamples = Math.max(1, Math.round(tuning.glotticHoldS * sig.sampleRateHz));
   const n = flowS.length;
   for (let s = blow.peakFlowIndex + 1; s <= blow.lastExpiratoryIndex; s++) {
     if (!(flowS[s] <= stopFlow && flowS[s - 1] > stopFlow)) continue;
-    let before = -Infinity;
-    for (let j = Math.max(0, s - fallSamples); j < s; j++) before = Math.max(before, flowS[j]);
-    if (before < fromFlow) continue;
+    if (s - halfFall < 0 || s + halfFall >= n || flowS[s - halfFall] - flowS[s + halfFall] < minFall) continue;
+    // The two means are a fall time apart, half before and half after the crossing: a closure
+    // falls through both halves, a taper or a heartbeat only part of the way.
+    const steadyEnd = s - halfFall;
+    const steadyStart = Math.max(blow.peakFlowIndex, steadyEnd - steadySamples);
+    if (steadyEnd <= steadyStart) continue;
+    let steadySum = 0;
+    for (let j = steadyStart; j < steadyEnd; j++) steadySum += flowS[j];
+    const steadyLPerS = steadySum / (steadyEnd - steadyStart);
+    if (steadyLPerS < fromFlow) continue;
+    const holdStart = s + halfFall;
+    const holdEnd = Math.min(n, holdStart + holdSamples);
     let held = true;
-    for (let j = s; j < Math.min(n, s + holdSamples); j++) {
-      // Breathing in (negative flow) is not a closed glottis.
-      if (Math.abs(flowS[j]) > 2 * stopFlow) {
+    let heldSum = 0;
+    for (let j = holdStart; j < holdEnd; j++) {
+      // Breathing in (negative flow) is not a closed glottis; nor is a slow tail hovering near the stop flow.
+      if (Math.abs(flowS[j]) > holdLimit) {
         held = false;
         break;
       }
+      heldSum += flowS[j];
     }
-    if (held) return { index: s, timeS: sampleTimeS(sig, s), fromFlowLPerS: before, toFlowLPerS: flowS[s] };
+    if (!held) continue;
+    const heldLPerS = holdEnd > holdStart ? heldSum / (holdEnd - holdStart) : flowS[s];
+    if (steadyLPerS - heldLPerS < minDrop) continue;
+    return { index: s, timeS: sampleTimeS(sig, s), fromFlowLPerS: steadyLPerS, toFlowLPerS: heldLPerS };
   }
   return null;
 }
@@ -220,9 +269,15 @@ function findCoughs(
   let lastHigh = Math.min(n - 1, endIndex + w);
   while (lastHigh > blow.peakFlowIndex && !(flowS[lastHigh] >= recoveryFloor)) lastHigh--;
   const last = Math.min(n - 2, endIndex, lastHigh - 1);
-  for (let m = blow.peakFlowIndex + 1; m <= last; m++) {
+  // Highest flow from each sample on: a minimum that nothing later rises minDip above cannot be a
+  // cough, which spares the window scans over the noise of a long, slowly falling tail.
+  const base = blow.peakFlowIndex + 1;
+  const suffixMax = new Float64Array(Math.max(0, lastHigh - base + 1));
+  for (let j = lastHigh, high = -Infinity; j >= base; j--) suffixMax[j - base] = high = Math.max(high, flowS[j]);
+  for (let m = base; m <= last; m++) {
     const low = flowS[m];
     if (!(low <= flowS[m - 1] && low < flowS[m + 1])) continue;
+    if (suffixMax[m + 1 - base] - low < minDip) continue;
     if (stopIndex >= 0 && m >= stopIndex && m <= stopIndex + stopHold) continue;
     // Flow reversing is a breath in, reported as such, not a cough.
     if (low < -params.glotticStopFlowLPerS) continue;
@@ -286,7 +341,9 @@ function findSecondBlow(
       }
       const start = i;
       let peak = flowS[i];
-      while (i <= to && flowS[i] > DETECTOR_TUNING.stillFlowLPerS) peak = Math.max(peak, flowS[i++]);
+      // The expiration lasts until the subject breathes in: an obstructed lung's slow tail (below the
+      // still flow for seconds) still belongs to it.
+      while (i <= to && flowS[i] > -DETECTOR_TUNING.stillFlowLPerS) peak = Math.max(peak, flowS[i++]);
       const volumeL = v[i - 1] - v[start];
       if (volumeL >= k * metrics.fvcL && peak >= k * metrics.pefLPerS) {
         return { timeS: sampleTimeS(sig, start), volumeL, peakLPerS: peak };

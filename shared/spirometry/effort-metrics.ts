@@ -53,9 +53,11 @@ export function measureEffortDetailed(sig: DualSignal, params: EngineParameters,
   const plateau = end.plateau;
   const longExpiration = fetS >= params.longExpirationFetS;
 
-  // FEV6 needs the subject still on the mouthpiece, not breathing in, at 6 s, and a blow that
-  // either lasted 6 s or had already emptied to a plateau (then FEV6 is the volume held).
-  const fev6L = fetS >= 6 || plateau ? volumeAt(t0 + 6) : null;
+  // FEV6 only when the expiration lasted 6 s (ATS/ERS practice, from memory): the subject was still
+  // on the mouthpiece and had not breathed in at time zero + 6 s. A subject who emptied to a plateau
+  // earlier and stayed there has FEV6 = the volume held (about FVC); one who breathed in, or whose
+  // recording ended, before 6 s has none (`volumeAt` is null beyond the last expiratory sample).
+  const fev6L = volumeAt(t0 + 6);
 
   const fefAt = (fraction: number): { timeS: number; flowLPerS: number } | null => {
     const timeS = firstUpwardCrossingTimeS(sig, v, ref + fraction * fvcL, blow.maxInspirationIndex, blow.maxVolumeIndex);

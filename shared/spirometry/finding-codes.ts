@@ -98,7 +98,8 @@ export const FINDING_CATALOGUE: Readonly<Record<FindingCode, FindingDescription>
   'glottic-stop-late': {
     code: 'glottic-stop-late',
     title: 'Glottic closure after the first second',
-    explanation: 'Flow fell abruptly to about zero after the first second, before a plateau: the FVC is understated; FEV1 can still be used.',
+    explanation:
+      'Flow fell abruptly to about zero after the first second (closure of the glottis, or the subject stopping at once): the flat volume that follows is not a true plateau, so the FVC is understated, by much in a slowly emptying lung; FEV1 can still be used.',
     affects: ['fvc'],
     costs: 'acceptable',
     source: ATS_ERS_2019 + '; abrupt-fall thresholds are common practice',

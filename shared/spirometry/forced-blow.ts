@@ -2,9 +2,13 @@ import { type DualSignal, SpirometryInputError } from './model.js';
 
 /** Where the forced blow lies in a recording; all indices are sample indices. */
 export interface ForcedBlow {
-  /** Point of maximal inspiration: the first sample at (within {@link MAX_INSPIRATION_TIE_L} of) the lowest volume before the peak. */
+  /**
+   * Point of maximal inspiration: where the inspiration before the blow ended, i.e. the start of
+   * the pause at full inspiration (the first sample of the recording when no inspiration is
+   * recorded). Hesitation time runs from here to time zero.
+   */
   readonly maxInspirationIndex: number;
-  /** Volume (L, file scale) at maximal inspiration; every reported volume is relative to it. */
+  /** Volume (L, file scale) at maximal inspiration: the lowest volume before the peak; every reported volume is relative to it. */
   readonly referenceVolumeL: number;
   /** Sample with the largest expiratory flow. */
   readonly peakFlowIndex: number;
@@ -22,8 +26,15 @@ export interface ForcedBlow {
 export const INSPIRATION_FALL_L = 0.1;
 /** A breath in deeper than this (L) ends the blow even if expiration later resumes [practice]. */
 export const BLOW_ENDING_INSPIRATION_L = 0.5;
-/** Samples within this volume (L) of the lowest one count as the same maximal inspiration (a pause at full inspiration) [practice]. */
-export const MAX_INSPIRATION_TIE_L = 0.005;
+/**
+ * The pause at full inspiration reaches back, from the lowest volume, over samples where the mean
+ * flow over this span (s) is not inspiratory. A volume tie (samples within a few mL of the lowest)
+ * does not do: the integral of sensor noise wanders more than that over a pause of seconds, and
+ * the hesitation then starts late [practice].
+ */
+export const PAUSE_FLOW_SPAN_S = 0.05;
+/** ... not inspiratory: above minus this flow (L/s) [practice]. */
+export const PAUSE_MAX_INSPIRATORY_FLOW_L_PER_S = 0.1;
 /** Before a breath in, samples within this volume (L) of the blow's largest volume still count as expiration; less is noise [practice]. */
 export const END_OF_EXPIRATION_TOLERANCE_L = 0.005;
 /** Below this peak flow (L/s) the recording holds no forced expiration [practice]. */
@@ -63,9 +74,8 @@ export function locateForcedBlow(sig: DualSignal, label: string): ForcedBlow {
     if (v[i] < v[minIdx]) minIdx = i;
     else if (v[i] > v[minIdx] + INSPIRATION_FALL_L) break;
   }
-  let maxInspirationIndex = minIdx;
-  while (maxInspirationIndex > 0 && v[maxInspirationIndex - 1] <= v[minIdx] + MAX_INSPIRATION_TIE_L) maxInspirationIndex--;
   const referenceVolumeL = v[minIdx];
+  const maxInspirationIndex = startOfPause(sig, minIdx);
 
   // Walk forward: a fall of the volume below its running maximum is a breath in; it ends the
   // blow unless it is shallow and expiration then goes on beyond the earlier maximum.
@@ -131,4 +141,28 @@ export function locateForcedBlow(sig: DualSignal, label: string): ForcedBlow {
     inspirationFollows: inspirationStart >= 0,
     postBlowMinVolumeL,
   };
+}
+
+/**
+ * Where the inspiration before the blow ended: walking back from the lowest volume over the
+ * pause at full inspiration, while the mean flow over the {@link PAUSE_FLOW_SPAN_S} before a
+ * sample is not inspiratory and the volume stays within {@link INSPIRATION_FALL_L} of the
+ * lowest (a drift, not another breath). Without a pause, about the lowest volume itself. The
+ * end found lies within about the span of the true end of inspiration.
+ */
+function startOfPause(sig: DualSignal, minIdx: number): number {
+  const v = sig.volumeL;
+  const k = Math.max(1, Math.round(PAUSE_FLOW_SPAN_S * sig.sampleRateHz));
+  const minChangeL = -PAUSE_MAX_INSPIRATORY_FLOW_L_PER_S * (k / sig.sampleRateHz);
+  const ceilingL = v[minIdx] + INSPIRATION_FALL_L;
+  let i = minIdx;
+  while (i > 0) {
+    // The volume change over the span ending at i - 1 (shorter at the start of the recording).
+    const from = Math.max(0, i - 1 - k);
+    const spanSamples = i - 1 - from;
+    if (v[i - 1] > ceilingL) break;
+    if (spanSamples > 0 && v[i - 1] - v[from] < (minChangeL * spanSamples) / k) break;
+    i--;
+  }
+  return i;
 }

@@ -78,11 +78,19 @@ export interface EffortMetrics {
   /** Time zero on the file's time axis (s). */
   readonly timeZeroS: number;
   readonly bevL: number;
-  /** Time from maximal inspiration to time zero (s). */
+  /**
+   * Time from maximal inspiration to time zero (s). Maximal inspiration is where the inspiration
+   * before the blow ended (the start of any pause at full inspiration), or the first sample when
+   * the recording holds no inspiration.
+   */
   readonly hesitationTimeS: number;
   readonly fev075L: number | null;
   readonly fev1L: number | null;
-  /** Null when the blow lasts less than 6 s after time zero. */
+  /**
+   * Null when the blow lasts less than 6 s after time zero: the subject breathed in, or the
+   * recording ended, before time zero + 6 s. A subject who reached a plateau earlier and stayed on
+   * the mouthpiece without breathing in has an FEV6 (the volume held, about FVC).
+   */
   readonly fev6L: number | null;
   readonly fvcL: number;
   readonly pefLPerS: number;

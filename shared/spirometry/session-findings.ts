@@ -48,7 +48,10 @@ export function applyRepeatsPriorFvc(
 
 /**
  * Flags efforts whose PEF is below the protocol's fraction of the session's best
- * PEF (`blow-submaximal`, common practice). Needs at least two efforts.
+ * PEF (`blow-submaximal`, common practice). Needs at least two efforts. It matters
+ * most in airflow obstruction: a softer blow compresses the airways less and can
+ * give a larger FEV1 (negative effort dependence), which would then be reported as
+ * the largest acceptable FEV1 unless the reader sees that the blow was submaximal.
  */
 export function applySubmaximalBlow(efforts: readonly EffortEvidence[], protocol: ResolvedProtocol): EffortEvidence[] {
   const limitFraction = protocol.engine.submaximalPefFraction;

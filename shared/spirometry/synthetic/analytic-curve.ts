@@ -49,13 +49,19 @@ export interface AnalyticRecordingSpec {
   readonly label?: string;
 }
 
+/** Any blow given in closed form: volume (L) and flow (L/s) `tS` seconds after its onset (0 before it). */
+export interface ClosedFormCurve {
+  readonly volumeL: (tS: number) => number;
+  readonly flowLPerS: (tS: number) => number;
+}
+
 /** Volume (L) and flow (L/s) of the recorded blow at `tS` after the onset, with its hold and breath in. */
-function recordedAt(blow: AnalyticBlow, spec: AnalyticRecordingSpec, tS: number): { volumeL: number; flowLPerS: number } {
+function recordedAt(curve: ClosedFormCurve, spec: AnalyticRecordingSpec, tS: number): { volumeL: number; flowLPerS: number } {
   const hold = spec.holdFromS ?? Infinity;
   const breathIn = spec.breathInFromS ?? Infinity;
   const exhaleUntilS = Math.min(hold, breathIn);
-  if (tS <= exhaleUntilS) return { volumeL: analyticVolumeL(blow, tS), flowLPerS: analyticFlowLPerS(blow, tS) };
-  const heldL = analyticVolumeL(blow, exhaleUntilS);
+  if (tS <= exhaleUntilS) return { volumeL: curve.volumeL(tS), flowLPerS: curve.flowLPerS(tS) };
+  const heldL = curve.volumeL(exhaleUntilS);
   if (tS <= breathIn) return { volumeL: heldL, flowLPerS: 0 };
   const rateLPerS = spec.breathInLPerS ?? 3;
   const inS = Math.min(tS - breathIn, spec.breathInS ?? 1.5);
@@ -64,14 +70,20 @@ function recordedAt(blow: AnalyticBlow, spec: AnalyticRecordingSpec, tS: number)
 
 /** Samples the analytic blow as a recording starting at 0 s, the onset after the lead-in. */
 export function recordAnalyticBlow(blow: AnalyticBlow, spec: AnalyticRecordingSpec): Recording {
+  const curve: ClosedFormCurve = { volumeL: (tS) => analyticVolumeL(blow, tS), flowLPerS: (tS) => analyticFlowLPerS(blow, tS) };
+  const label = spec.label ?? `analytic PEF ${blow.pefLPerS} tr ${blow.riseS} tau ${blow.tauS} at ${spec.rateHz} Hz (${spec.signal})`;
+  return recordClosedFormCurve(curve, { ...spec, label });
+}
+
+/** Samples any closed-form blow as a recording starting at 0 s, the onset after the lead-in. */
+export function recordClosedFormCurve(curve: ClosedFormCurve, spec: AnalyticRecordingSpec): Recording {
   const n = Math.round((spec.leadInS + spec.durationS) * spec.rateHz) + 1;
   const values = new Float64Array(n);
   for (let i = 0; i < n; i++) {
-    const point = recordedAt(blow, spec, i / spec.rateHz - spec.leadInS);
+    const point = recordedAt(curve, spec, i / spec.rateHz - spec.leadInS);
     values[i] = spec.signal === 'volume' ? point.volumeL : point.flowLPerS;
   }
-  const label = spec.label ?? `analytic PEF ${blow.pefLPerS} tr ${blow.riseS} tau ${blow.tauS} at ${spec.rateHz} Hz (${spec.signal})`;
-  return { signal: spec.signal, sampleRateHz: spec.rateHz, startTimeS: 0, values, label };
+  return { signal: spec.signal, sampleRateHz: spec.rateHz, startTimeS: 0, values, label: spec.label ?? `closed-form curve at ${spec.rateHz} Hz (${spec.signal})` };
 }
 
 /**

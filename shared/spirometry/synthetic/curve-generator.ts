@@ -1,5 +1,5 @@
 import type { FindingCode, Recording, SignalKind } from '../model.js';
-import { type BlowFault, FAULT_TIMES_S, type BlowShape, makeBlowFlow } from './blow-shape.js';
+import { type BlowFault, FAULT_TIMES_S, type FaultTimes, makeBlowFlow } from './blow-shape.js';
 import { SeededRandom } from './seeded-random.js';
 
 /** Faults of a whole recording: the blow faults plus those of the breathing around it. */
@@ -25,6 +25,8 @@ export interface EffortSpec {
   readonly pauseS?: number;
   /** Whether the subject breathes in fully after the blow (FIVC). */
   readonly inspirationAfter?: boolean;
+  /** FIVC - FVC (L) of the inspiration after the blow: -0.05 L by default, 0.4 L with the `fivc-excess` fault. */
+  readonly fivcExcessL?: number;
   /** Still tail at the end of the recording (s). */
   readonly tailS?: number;
   /** Standard deviation of the flow sensor noise per sample (L/s); volume signals integrate it. */
@@ -32,6 +34,14 @@ export interface EffortSpec {
   /** Standard deviation of white noise on a volume signal (L). */
   readonly volumeNoiseL?: number;
   readonly faults?: readonly EffortFault[];
+  /** Changes to the fault timing (s after time zero), e.g. a later early end for a slow-emptying lung. */
+  readonly faultTimesS?: Partial<FaultTimes>;
+  /**
+   * Amplitude (L/s) of cardiogenic oscillation on the blow: a 1.2 Hz sine added to the expiratory
+   * flow, fading out as the flow falls below 0.02 L/s (common practice: the heartbeat shows on the
+   * low flows of a long expiration).
+   */
+  readonly cardiogenicLPerS?: number;
   readonly label?: string;
 }
 
@@ -63,8 +73,24 @@ const INSPIRATORY_CAPACITY_L = 2.6;
 const MAX_INSPIRATION_S = 1.3;
 const POST_INSPIRATION_S = 1.8;
 const ZERO_DRIFT_L_PER_S = 0.06;
-/** Simpson sub-steps per second of recording when integrating flow to volume (even per sample). */
-const SUBSTEPS_PER_S = 4000;
+const CARDIOGENIC_HZ = 1.2;
+/** Relative band around the BEV limit in which a curve may or may not be flagged. */
+const BEV_MARGIN = 0.15;
+/**
+ * Lowest flow (L/s) from which a built-in glottic closure is expected to be found: half as much
+ * again as the smallest fall the detector takes (1.2 x 0.1 L/s, effort-findings.ts), kept here
+ * as a number of its own so that a change of the detector cannot lower what the tests expect.
+ */
+const MIN_SHOWN_CLOSURE_FLOW_L_PER_S = 0.18;
+/** Lowest flow (L/s) at which a built-in cough (a 90 % dip) is expected to be found: its dip then exceeds 0.12 L/s by half. */
+const MIN_SHOWN_COUGH_FLOW_L_PER_S = 0.2;
+const CARDIOGENIC_FADE_L_PER_S = 0.02;
+/**
+ * Simpson sub-steps per second of recording when integrating flow to volume (even per sample, so
+ * at least two): 1 ms steps at 100 Hz, 0.5 ms at 1000 Hz. The truth is the trapezoidal integral on
+ * the same grid; both err by under 3e-5 L on our blows, even across the 15 ms fall of a closure.
+ */
+const SUBSTEPS_PER_S = 1000;
 
 const FAULT_FINDINGS: Readonly<Record<EffortFault, { expected: FindingCode[]; allowed: FindingCode[] }>> = {
   'slow-start': { expected: ['bev-excessive'], allowed: ['peak-late'] },
@@ -108,10 +134,22 @@ export function generateEffort(spec: EffortSpec, seed: number): GeneratedEffort 
     slowFraction: spec.slowFraction ?? 0.15,
     slowTauS: spec.slowTauS ?? 1.5,
     faults: blowFaults,
+    ...(spec.faultTimesS ? { faultTimesS: spec.faultTimesS } : {}),
   };
-  const blowFlow = makeBlowFlow(shape);
+  const shapeFlow = makeBlowFlow(shape);
+  const cardiogenicLPerS = spec.cardiogenicLPerS ?? 0;
+  const blowFlow =
+    cardiogenicLPerS > 0
+      ? (u: number): number => {
+          const flow = shapeFlow(u);
+          const fade = Math.min(1, Math.max(0, flow / CARDIOGENIC_FADE_L_PER_S));
+          return flow + cardiogenicLPerS * fade * Math.sin(2 * Math.PI * CARDIOGENIC_HZ * u);
+        }
+      : shapeFlow;
   // An early end is the subject breathing in (or being cut off) soon after stopping: no 1 s plateau.
-  const blowDurationS = has('early-end') ? earlyEndDurationS(shape) : (spec.blowDurationS ?? 12);
+  const blowDurationS = has('early-end')
+    ? earlyEndDurationS(blowFlow, { ...FAULT_TIMES_S, ...spec.faultTimesS })
+    : (spec.blowDurationS ?? 12);
   const tidal = spec.tidalBreaths ?? 0;
   const segments: Segment[] = [];
   let t = spec.leadInS ?? 0.5;
@@ -128,10 +166,18 @@ export function generateEffort(spec: EffortSpec, seed: number): GeneratedEffort 
   segments.push({ startS: t, endS: t + blowDurationS, flow: blowFlow });
   t += blowDurationS;
 
-  const truthBlow = integrateBlow(blowFlow, blowDurationS);
+  // The blow is evaluated once, on the fine grid of the recording's integration, for both the
+  // truth and the recording (the flow functions dominate the cost of a synthetic effort).
+  const substeps = 2 * Math.max(1, Math.ceil(SUBSTEPS_PER_S / rate / 2));
+  const h = 1 / (rate * substeps);
+  const blowFirstK = Math.ceil(blowStartS / h - 1e-9);
+  const blowLastK = Math.ceil((blowStartS + blowDurationS) / h - 1e-9) - 1;
+  const blowFine = new Float64Array(blowLastK - blowFirstK + 1);
+  for (let j = 0; j < blowFine.length; j++) blowFine[j] = blowFlow((blowFirstK + j) * h - blowStartS);
+  const truthBlow = truthOfBlow(blowFine, blowFirstK * h - blowStartS, h);
   let fivcL: number | null = null;
   if (spec.inspirationAfter || has('early-end') || has('fivc-excess') || has('double-breath')) {
-    fivcL = truthBlow.fvcL + (has('fivc-excess') ? 0.4 : -0.05);
+    fivcL = truthBlow.fvcL + (spec.fivcExcessL ?? (has('fivc-excess') ? 0.4 : -0.05));
     const volume = fivcL;
     segments.push({ startS: t, endS: t + POST_INSPIRATION_S, flow: (u) => -((2 * volume) / POST_INSPIRATION_S) * sin2((Math.PI * u) / POST_INSPIRATION_S) });
     t += POST_INSPIRATION_S + 0.5;
@@ -143,9 +189,13 @@ export function generateEffort(spec: EffortSpec, seed: number): GeneratedEffort 
   }
   const totalS = t + (spec.tailS ?? 1);
   const drift = has('zero-drift') ? ZERO_DRIFT_L_PER_S : 0;
-  const flowAt = (time: number): number => {
+  const others = segments.filter((segment) => segment.flow !== blowFlow);
+  /** Flow at fine-grid point k: the blow from its table, the other segments from their functions. */
+  const flowAt = (k: number): number => {
+    const time = k * h;
     let f = drift;
-    for (const s of segments) if (time >= s.startS && time < s.endS) f += s.flow(time - s.startS);
+    if (k >= blowFirstK && k <= blowLastK) f += blowFine[k - blowFirstK];
+    for (const s of others) if (time >= s.startS && time < s.endS) f += s.flow(time - s.startS);
     return f;
   };
 
@@ -154,13 +204,11 @@ export function generateEffort(spec: EffortSpec, seed: number): GeneratedEffort 
   const flow = new Float64Array(n);
   const volume = new Float64Array(n);
   flow[0] = flowAt(0);
-  const substeps = 2 * Math.max(1, Math.ceil(SUBSTEPS_PER_S / rate / 2));
-  const h = dt / substeps;
   for (let i = 1; i < n; i++) {
-    const a = (i - 1) * dt;
+    const a = (i - 1) * substeps;
     let sum = flow[i - 1];
-    for (let k = 1; k < substeps; k++) sum += (k % 2 === 1 ? 4 : 2) * flowAt(a + k * h);
-    flow[i] = flowAt(i * dt);
+    for (let k = 1; k < substeps; k++) sum += (k % 2 === 1 ? 4 : 2) * flowAt(a + k);
+    flow[i] = flowAt(a + substeps);
     sum += flow[i];
     volume[i] = volume[i - 1] + (sum * h) / 3;
   }
@@ -186,6 +234,24 @@ export function generateEffort(spec: EffortSpec, seed: number): GeneratedEffort 
     FAULT_FINDINGS[fault].expected.forEach((c) => expected.add(c));
     FAULT_FINDINGS[fault].allowed.forEach((c) => allowed.add(c));
   }
+  // Expectations that follow from the curve's own numbers rather than from the fault alone.
+  // BEV against its limit, the greater of 5 % of FVC and 0.100 L (ATS/ERS 2019, from memory): a
+  // late peak or a closure that shrinks FVC can break it too; near the limit either way is allowed.
+  const bevLimitL = Math.max(0.1, 0.05 * truthBlow.fvcL);
+  if (truthBlow.bevL > (1 + BEV_MARGIN) * bevLimitL) expected.add('bev-excessive');
+  else if (truthBlow.bevL > (1 - BEV_MARGIN) * bevLimitL) allowed.add('bev-excessive');
+  // A closure or cough where the lung empties too slowly to show it is allowed, not expected.
+  const times = { ...FAULT_TIMES_S, ...spec.faultTimesS };
+  for (const [fault, code, atS, beforeS, minFlowLPerS] of [
+    ['glottic-first-second', 'glottic-stop-first-second', times.glotticFirstSecond, 0.005, MIN_SHOWN_CLOSURE_FLOW_L_PER_S],
+    ['glottic-late', 'glottic-stop-late', times.glotticLate, 0.005, MIN_SHOWN_CLOSURE_FLOW_L_PER_S],
+    ['cough-first-second', 'cough-first-second', times.coughFirstSecond, times.coughWidth, MIN_SHOWN_COUGH_FLOW_L_PER_S],
+    ['cough-late', 'cough-late', times.coughLate, times.coughWidth, MIN_SHOWN_COUGH_FLOW_L_PER_S],
+  ] as const) {
+    if (!has(fault) || blowFlow(truthBlow.timeZeroS + atS - beforeS) >= minFlowLPerS) continue;
+    expected.delete(code);
+    allowed.add(code);
+  }
   return {
     recording: { signal, sampleRateHz: rate, startTimeS: 0, values, label: spec.label ?? `synthetic-${seed}` },
     truth: {
@@ -203,12 +269,37 @@ export function generateEffort(spec: EffortSpec, seed: number): GeneratedEffort 
   };
 }
 
-/** Blow length for `early-end`: the taper, then 0.3 s before breathing in. */
-function earlyEndDurationS(shape: BlowShape): number {
-  return shape.riseTimeS / 2 + FAULT_TIMES_S.earlyEnd + FAULT_TIMES_S.earlyEndTaper + 0.3;
+/** Blow length for `early-end`: time zero, the taper, then 0.3 s before breathing in. */
+function earlyEndDurationS(blowFlow: (u: number) => number, times: FaultTimes): number {
+  // Time zero lies within the first 2 s even after the longest slow start.
+  const { timeZeroS } = integrateBlow(blowFlow, 2);
+  return timeZeroS + times.earlyEnd + times.earlyEndTaper + 0.3;
 }
 
 const TRUTH_STEP_S = 2.5e-4;
+
+/** Truth values of a blow tabulated every `stepS` from `firstU` (s after its start): trapezoidal volume, peak and time zero. */
+function truthOfBlow(blowFine: Float64Array, firstU: number, stepS: number) {
+  const m = blowFine.length;
+  const vol = new Float64Array(m);
+  // The flow before the first grid point (at most one step after the start) starts from zero.
+  vol[0] = 0.5 * blowFine[0] * firstU;
+  let peak = 0;
+  let fvcL = vol[0];
+  for (let j = 1; j < m; j++) {
+    vol[j] = vol[j - 1] + 0.5 * (blowFine[j - 1] + blowFine[j]) * stepS;
+    if (blowFine[j] > blowFine[peak]) peak = j;
+    if (vol[j] > fvcL) fvcL = vol[j];
+  }
+  const volumeAt = (u: number): number => {
+    const x = Math.min(m - 1, Math.max(0, (u - firstU) / stepS));
+    const i = Math.min(m - 2, Math.floor(x));
+    return vol[i] + (vol[i + 1] - vol[i]) * (x - i);
+  };
+  const pefLPerS = blowFine[peak];
+  const timeZeroS = firstU + peak * stepS - vol[peak] / pefLPerS;
+  return { timeZeroS, bevL: volumeAt(timeZeroS), fvcL, pefLPerS, volumeAt };
+}
 
 /** Integrates the noise-free blow finely and finds its peak and time zero. */
 function integrateBlow(blowFlow: (u: number) => number, durationS: number) {
