@@ -5,33 +5,15 @@ import os from 'node:os';
 import path from 'node:path';
 import { strToU8, zipSync } from 'fflate';
 import { buildFhirBundle } from '../../shared/spirometry/fhir-bundle.js';
+import { analyticFlowLPerS, analyticVolumeL, type AnalyticBlow } from '../../shared/spirometry/synthetic/analytic-curve.js';
 import { SESSION_DOCUMENT_FORMAT, type SessionDocument } from '../../shared/spirometry/session-document.js';
 import { effortToCsv, generateSession, type GeneratedEffort } from '../../shared/spirometry/synthetic/curve-generator.js';
 
 /**
- * The analytic test curve (our own construction from the ATS/ERS
- * definitions): flow rises linearly to PEF over riseS, then decays exponentially
- * with time constant tauS. Volume V(t) = PEF t^2/(2 tr) up to tr, then
- * PEF tr/2 + PEF tau (1 - exp(-(t - tr)/tau)).
+ * The analytic test curve (our own construction from the ATS/ERS definitions): flow rises
+ * linearly to PEF over riseS, then decays exponentially with time constant tauS.
  */
-interface AnalyticCurve {
-  readonly pefLPerS: number;
-  readonly riseS: number;
-  readonly tauS: number;
-}
-
-function analyticVolumeL(curve: AnalyticCurve, tS: number): number {
-  const { pefLPerS, riseS, tauS } = curve;
-  if (tS <= 0) return 0;
-  if (tS <= riseS) return (pefLPerS * tS * tS) / (2 * riseS);
-  return (pefLPerS * riseS) / 2 + pefLPerS * tauS * (1 - Math.exp(-(tS - riseS) / tauS));
-}
-
-function analyticFlowLPerS(curve: AnalyticCurve, tS: number): number {
-  if (tS <= 0) return 0;
-  if (tS <= curve.riseS) return (curve.pefLPerS * tS) / curve.riseS;
-  return curve.pefLPerS * Math.exp(-(tS - curve.riseS) / curve.tauS);
-}
+type AnalyticCurve = AnalyticBlow;
 
 /** A CSV of the curve after a flat lead-in, ending at `endS` after the start of the blow. */
 function analyticCsv(curve: AnalyticCurve, options: { rateHz?: number; signal?: 'volume' | 'flow'; leadInS?: number; endS?: number } = {}): string {
