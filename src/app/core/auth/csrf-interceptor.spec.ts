@@ -50,8 +50,8 @@ describe('csrfInterceptor', () => {
 
     // A token sent to another origin could be replayed from there (OWASP, same cheat sheet).
     it('never sends the token to another origin', () => {
-      http.post('https://elsewhere.example.net/collect', {}).subscribe();
-      const request = backend.expectOne('https://elsewhere.example.net/collect');
+      http.post('https://other-origin.example.org/collect', {}).subscribe();
+      const request = backend.expectOne('https://other-origin.example.org/collect');
       expect(request.request.headers.has(CSRF_HEADER)).toBe(false);
       request.flush(null);
     });
