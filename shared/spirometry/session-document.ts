@@ -150,6 +150,17 @@ export function sessionDocumentToRecordings(doc: SessionDocument): Recording[] {
   }));
 }
 
+/** One recording as an effort of a session document (the inverse of {@link sessionDocumentToRecordings}). */
+export function recordingToSessionEffort(recording: Recording): SessionEffort {
+  return {
+    label: recording.label,
+    signal: recording.signal,
+    sampleRateHz: recording.sampleRateHz,
+    startTimeS: recording.startTimeS,
+    values: Array.from(recording.values),
+  };
+}
+
 /** The published JSON Schema of the session document, generated from the zod schema. */
 export function sessionDocumentJsonSchema(): Record<string, unknown> {
   return z.toJSONSchema(sessionDocumentSchema) as Record<string, unknown>;

@@ -15,6 +15,7 @@ import { analyzeSession } from '../../shared/spirometry/session-analysis.js';
 import {
   SESSION_DOCUMENT_FORMAT,
   parseSessionDocument,
+  recordingToSessionEffort,
   sessionDocumentToRecordings,
   type SessionDocument,
 } from '../../shared/spirometry/session-document.js';
@@ -142,13 +143,7 @@ for (const rateHz of [100, 1000]) {
   const document: SessionDocument = {
     format: SESSION_DOCUMENT_FORMAT,
     metadata: { subjectCode: 'BENCH-001', visit: 'V1', demographics: { ageYears: 45, heightCm: 172, sex: 'female' } },
-    efforts: efforts.map(({ recording }) => ({
-      label: recording.label,
-      signal: recording.signal,
-      sampleRateHz: recording.sampleRateHz,
-      startTimeS: recording.startTimeS,
-      values: Array.from(recording.values),
-    })),
+    efforts: efforts.map(({ recording }) => recordingToSessionEffort(recording)),
   };
   const text = JSON.stringify(document);
   const parsed = JSON.parse(text) as unknown;

@@ -6,7 +6,7 @@ import path from 'node:path';
 import { strToU8, zipSync } from 'fflate';
 import { buildFhirBundle } from '../../shared/spirometry/fhir-bundle.js';
 import { analyticFlowLPerS, analyticVolumeL, type AnalyticBlow } from '../../shared/spirometry/synthetic/analytic-curve.js';
-import { SESSION_DOCUMENT_FORMAT, type SessionDocument } from '../../shared/spirometry/session-document.js';
+import { recordingToSessionEffort, SESSION_DOCUMENT_FORMAT, type SessionDocument } from '../../shared/spirometry/session-document.js';
 import { effortToCsv, generateSession, type GeneratedEffort } from '../../shared/spirometry/synthetic/curve-generator.js';
 
 /**
@@ -95,13 +95,7 @@ function sessionDocument(efforts: readonly GeneratedEffort[]): SessionDocument {
   return {
     format: SESSION_DOCUMENT_FORMAT,
     metadata: { subjectCode: 'S-0001', visit: 'V2', bronchodilator: 'pre', demographics: { ageYears: 40, heightCm: 175, sex: 'male' } },
-    efforts: efforts.map(({ recording }) => ({
-      label: recording.label,
-      signal: recording.signal,
-      sampleRateHz: recording.sampleRateHz,
-      startTimeS: recording.startTimeS,
-      values: Array.from(recording.values),
-    })),
+    efforts: efforts.map(({ recording }) => recordingToSessionEffort(recording)),
   };
 }
 
