@@ -7,10 +7,15 @@ import { rateLimit } from 'express-rate-limit';
 import helmet from 'helmet';
 import type { Logger } from 'pino';
 import { pinoHttp } from 'pino-http';
+import { AuditRepository } from './audit/audit-repository.js';
+import { AuditTrail } from './audit/audit-trail.js';
 import { AuthRepository } from './auth/auth-repository.js';
 import { authRoutes } from './auth/auth-routes.js';
 import { AuthService } from './auth/auth-service.js';
 import type { OidcRelyingParty } from './auth/oidc-relying-party.js';
+import { CalibrationRepository } from './calibration/calibration-repository.js';
+import { calibrationRoutes } from './calibration/calibration-routes.js';
+import { CalibrationService } from './calibration/calibration-service.js';
 import type { AppConfig } from './config.js';
 import { pingDatabase, type TidemarkDatabase } from './db/database.js';
 import { formatRoutes } from './formats/format-routes.js';
@@ -20,11 +25,21 @@ import { ApiRouteRegistry } from './http/api-route.js';
 import { authenticate, requireCsrfToken } from './http/authenticate.js';
 import { apiNotFound, errorHandler } from './http/error-handler.js';
 import type { Mailer } from './mail/mailer.js';
+import { MessageRepository } from './messages/message-repository.js';
+import { messageRoutes } from './messages/message-routes.js';
+import { MessageService } from './messages/message-service.js';
+import { loadProtocol } from './protocols/protocol-catalogue.js';
+import { SessionRepository } from './sessions/session-repository.js';
+import { sessionRoutes } from './sessions/session-routes.js';
+import { SessionService } from './sessions/session-service.js';
 import type { ObjectStorage } from './storage/object-storage.js';
 import { StudyRepository } from './studies/study-repository.js';
 import { studyRoutes } from './studies/study-routes.js';
 import { StudyService } from './studies/study-service.js';
+import { uploadRoutes } from './uploads/upload-routes.js';
+import { UploadService } from './uploads/upload-service.js';
 import { UserRepository } from './users/user-repository.js';
+import type { ResolvedProtocol } from '../shared/spirometry/protocol.js';
 
 export const APP_VERSION = '0.1.0';
 
@@ -39,13 +54,50 @@ export interface AppDependencies {
   readonly clock?: () => Date;
 }
 
+/** Services that outlive a request: start-up work and shutdown need them too. */
+export interface AppServices {
+  readonly audit: AuditTrail;
+  readonly uploads: UploadService;
+  readonly sessions: SessionService;
+  readonly messages: MessageService;
+}
+
 /** Wires the Express app; listening is the caller's business. */
-export function createApp(deps: AppDependencies): { app: Express; registry: ApiRouteRegistry } {
+export function createApp(deps: AppDependencies): { app: Express; registry: ApiRouteRegistry; services: AppServices } {
   const { config, db, storage, mailer, relyingParty, logger } = deps;
   const clock = deps.clock ?? (() => new Date());
   const users = new UserRepository(db);
   const auth = new AuthService(new AuthRepository(db), users, config.session, clock);
-  const studies = new StudyService(new StudyRepository(db));
+  const studyRepository = new StudyRepository(db);
+  const studies = new StudyService(studyRepository);
+  const audit = new AuditTrail(new AuditRepository(db), clock);
+  const sessionRepository = new SessionRepository(db);
+  const sessions = new SessionService(sessionRepository, studyRepository, audit, clock);
+  const messages = new MessageService(new MessageRepository(db), users, mailer, () => config.publicUrl, clock, logger);
+  const calibrationRepository = new CalibrationRepository(db);
+  const calibration = new CalibrationService(calibrationRepository, studyRepository, audit, clock);
+  const protocols = new Map<string, ResolvedProtocol>();
+  const protocolFor = (ruleSetId: string): ResolvedProtocol => {
+    let protocol = protocols.get(ruleSetId);
+    if (!protocol) {
+      protocol = loadProtocol(ruleSetId);
+      protocols.set(ruleSetId, protocol);
+    }
+    return protocol;
+  };
+  const uploads = new UploadService(
+    sessionRepository,
+    sessions,
+    studyRepository,
+    calibrationRepository,
+    audit,
+    storage,
+    messages,
+    protocolFor,
+    config.uploads,
+    clock,
+    logger,
+  );
   const health = new HealthService(
     {
       database: () => pingDatabase(db),
@@ -110,11 +162,15 @@ export function createApp(deps: AppDependencies): { app: Express; registry: ApiR
   app.use(healthRoutes(registry, health, APP_VERSION));
   app.use(studyRoutes(registry, studies));
   app.use(formatRoutes(registry));
+  app.use(messageRoutes(registry, messages));
+  app.use(sessionRoutes(registry, sessions));
+  app.use(uploadRoutes(registry, uploads, config.uploads.maxBytes));
+  app.use(calibrationRoutes(registry, calibration));
   app.use(['/api', '/auth'], apiNotFound);
 
   serveWebClient(app, config.webDir);
   app.use(errorHandler);
-  return { app, registry };
+  return { app, registry, services: { audit, uploads, sessions, messages } };
 }
 
 /** Serves the built Angular app, with every other GET falling back to its index page. */

@@ -35,6 +35,8 @@ const environmentSchema = z.object({
   TIDEMARK_MAIL_FROM: z.string().default('Tidemark <no-reply@tidemark.example>'),
   TIDEMARK_FAKE_SMTP_PORT: z.coerce.number().int().min(0).default(4325),
 
+  TIDEMARK_UPLOAD_MAX_MB: z.coerce.number().positive().max(1024).default(25),
+
   TIDEMARK_SESSION_IDLE_MINUTES: z.coerce.number().positive().default(30),
   TIDEMARK_SESSION_MAX_HOURS: z.coerce.number().positive().default(12),
   TIDEMARK_SECURE_COOKIES: flag.optional(),
@@ -71,6 +73,13 @@ export interface AppConfig {
     smtpUrl: string | undefined;
     readonly from: string;
     readonly fakePort: number;
+  };
+  /** Largest session file accepted, and the zip expansion limits that guard against archive bombs. */
+  readonly uploads: {
+    readonly maxBytes: number;
+    readonly maxExpandedBytes: number;
+    readonly maxZipEntries: number;
+    readonly maxCompressionRatio: number;
   };
   readonly session: { readonly idleMinutes: number; readonly maxHours: number; readonly secureCookies: boolean };
 }
@@ -111,6 +120,13 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): AppConfig {
       fakePort: e.TIDEMARK_FAKE_IDP_PORT,
     },
     mail: { smtpUrl: e.TIDEMARK_SMTP_URL, from: e.TIDEMARK_MAIL_FROM, fakePort: e.TIDEMARK_FAKE_SMTP_PORT },
+    uploads: {
+      maxBytes: Math.round(e.TIDEMARK_UPLOAD_MAX_MB * 1024 * 1024),
+      // Effort CSVs deflate 4-5 times; an entry expanding 100 times is an archive bomb, not a session.
+      maxExpandedBytes: Math.round(e.TIDEMARK_UPLOAD_MAX_MB * 1024 * 1024 * 8),
+      maxZipEntries: 1000,
+      maxCompressionRatio: 100,
+    },
     session: {
       idleMinutes: e.TIDEMARK_SESSION_IDLE_MINUTES,
       maxHours: e.TIDEMARK_SESSION_MAX_HOURS,

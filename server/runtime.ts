@@ -4,14 +4,14 @@ import path from 'node:path';
 import type { Express } from 'express';
 import { pino, type Logger } from 'pino';
 import { startStorageFake, type StorageFake } from '../storage-fake/s3-fake.js';
-import { createApp, type AppDependencies } from './app.js';
+import { createApp, type AppDependencies, type AppServices } from './app.js';
 import { OidcRelyingParty } from './auth/oidc-relying-party.js';
 import type { AppConfig } from './config.js';
 import { openDatabase } from './db/database.js';
 import { startFakeIdentityProvider, type FakeIdentityProvider } from './dev-fakes/identity-provider.js';
 import { startMailCatcher, type MailCatcher } from './dev-fakes/mail-catcher.js';
 import { Mailer } from './mail/mailer.js';
-import { seedDemoStudy } from './seed/demo-seed.js';
+import { seedDemoSessions, seedDemoStudy } from './seed/demo-seed.js';
 import { DEMO_PASSWORD, DEMO_USERS } from './seed/demo-study.js';
 import { ObjectStorage } from './storage/object-storage.js';
 
@@ -20,6 +20,7 @@ export interface RunningTidemark {
   readonly url: string;
   readonly app: Express;
   readonly deps: AppDependencies;
+  readonly services: AppServices;
   readonly fakes: { identity?: FakeIdentityProvider; storage?: StorageFake; mail?: MailCatcher };
   close(): Promise<void>;
 }
@@ -90,13 +91,19 @@ export async function startTidemark(
       `${config.publicUrl}/auth/callback`,
     );
     const deps: AppDependencies = { config, db, storage, mailer, relyingParty, logger, clock: options.clock };
-    const { app } = createApp(deps);
+    const { app, services } = createApp(deps);
+    closers.push(() => services.messages.settle());
+    // Before the first request: files stored by requests that died before their commit are applied now.
+    const swept = await services.uploads.sweepOrphans();
+    if (swept.applied + swept.discarded + swept.kept > 0) logger.warn(swept, 'reconciled uploads interrupted by a crash');
+    if (config.seedDemo) await seedDemoSessions(services, logger);
     server.on('request', app);
 
     return {
       url: config.publicUrl,
       app,
       deps,
+      services,
       fakes,
       close: async () => {
         for (const close of closers.reverse()) await close();

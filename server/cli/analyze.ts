@@ -19,25 +19,25 @@ import path from 'node:path';
 import { parseArgs } from 'node:util';
 import { callerWorkingDirectory, loadConfig } from '../config.js';
 import { ProtocolCatalogueError, loadProtocol } from '../protocols/protocol-catalogue.js';
-import { DEFAULT_EFFORT_CSV_OPTIONS, parseEffortCsv } from '../../shared/spirometry/effort-csv.js';
 import type { Demographics, Ethnicity, EquationsId, PredictedValue, Recording } from '../../shared/spirometry/model.js';
 import { SpirometryInputError } from '../../shared/spirometry/model.js';
 import type { ResolvedProtocol } from '../../shared/spirometry/protocol.js';
 import type { ReferenceEquations } from '../../shared/spirometry/reference/reference-equations.js';
 import { analyzeSession, type SessionAnalysis } from '../../shared/spirometry/session-analysis.js';
-import { parseFhirBundle } from '../../shared/spirometry/fhir-bundle.js';
-import {
-  type SessionMetadata,
-  parseSessionDocument,
-  sessionDocumentToRecordings,
-  sessionMetadataSchema,
-} from '../../shared/spirometry/session-document.js';
+import { type DecodeLimits, decodeEffortCsvFiles, decodeSessionFile, demographicsAtTest } from '../uploads/session-file-decoder.js';
 
 /** A command-line mistake: exit code 2. */
 class UsageError extends Error {}
 
 /** Largest input file read (bytes); more is certainly not one session. */
 const MAX_FILE_BYTES = 200 * 1024 * 1024;
+/** Most entries a session zip may list: a session has a handful of efforts (common practice bound). */
+const MAX_ZIP_ENTRIES = 1000;
+/**
+ * Largest expanded/stored ratio of a zip entry over 1 MB: effort CSVs deflate far less,
+ * zip bombs far more (common practice: effort CSVs deflate 4-5 times).
+ */
+const MAX_COMPRESSION_RATIO = 100;
 
 const ETHNICITIES: readonly Ethnicity[] = ['caucasian', 'african-american', 'north-east-asian', 'south-east-asian', 'other', 'mexican-american'];
 const EQUATIONS: readonly EquationsId[] = ['gli-global-2022', 'gli-2012', 'nhanes3', 'ecsc-1993'];
@@ -62,111 +62,29 @@ function readInputFile(file: string): Buffer {
   return readFileSync(resolved);
 }
 
-function decodeUtf8(bytes: Uint8Array, file: string): string {
-  try {
-    return new TextDecoder('utf-8', { fatal: true }).decode(bytes);
-  } catch {
-    throw new SpirometryInputError('encoding', `${file}: not UTF-8 text`, { file });
-  }
-}
-
-function parseJson(text: string, file: string): unknown {
-  try {
-    return JSON.parse(text);
-  } catch (error) {
-    throw new SpirometryInputError('json', `${file}: not valid JSON (${(error as Error).message})`, { file });
-  }
-}
-
-/** Demographics at test that a session's metadata carries, without the fields the engine does not use. */
-function demographicsOf(metadata: SessionMetadata): Partial<Demographics> {
-  const { ageYears, heightCm, sex, ethnicity } = metadata.demographics ?? {};
+/** Bounds on a session file: the file limit again for what a zip expands to. */
+function decodeLimits(protocol: ResolvedProtocol): DecodeLimits {
   return {
-    ...(ageYears !== undefined ? { ageYears } : {}),
-    ...(heightCm !== undefined ? { heightCm } : {}),
-    ...(sex !== undefined ? { sex } : {}),
-    ...(ethnicity !== undefined ? { ethnicity } : {}),
+    maxExpandedBytes: MAX_FILE_BYTES,
+    maxEntries: MAX_ZIP_ENTRIES,
+    maxCompressionRatio: MAX_COMPRESSION_RATIO,
+    minSampleRateHz: protocol.engine.minSampleRateHz,
   };
 }
 
-/** The optional session.json of a zip: the session's metadata, bare or under a "metadata" key. */
-function parseZipMetadata(bytes: Uint8Array, file: string): SessionMetadata {
-  const json = parseJson(decodeUtf8(bytes, file), file) as { metadata?: unknown } | null;
-  const metadata = json !== null && typeof json === 'object' && 'metadata' in json ? json.metadata : json;
-  const result = sessionMetadataSchema.safeParse(metadata);
-  if (!result.success) {
-    const issue = result.error.issues[0];
-    const where = issue.path.length > 0 ? issue.path.join('.') : '(document)';
-    throw new SpirometryInputError('session-json', `${file}: ${where}: ${issue.message}`, { file, column: where });
-  }
-  return result.data;
-}
-
-function readSessionJson(file: string, bytes: Uint8Array): Inputs {
-  const json = parseJson(decodeUtf8(bytes, file), file);
-  const isBundle = (json as { resourceType?: unknown } | null)?.resourceType === 'Bundle';
-  const document = isBundle ? parseFhirBundle(json, file) : parseSessionDocument(json, file);
-  return { recordings: sessionDocumentToRecordings(document), demographics: demographicsOf(document.metadata) };
-}
-
-/** Whether a zip entry name stays inside the archive. */
-function isSafeEntryName(name: string): boolean {
-  if (name.startsWith('/') || name.startsWith('\\') || /^[a-zA-Z]:/.test(name)) return false;
-  return !name.split(/[/\\]/).some((segment) => segment === '..');
-}
-
-async function readZip(file: string, bytes: Uint8Array, protocol: ResolvedProtocol): Promise<Inputs> {
-  const { unzipSync } = await import('fflate');
-  let entries: Record<string, Uint8Array>;
-  let expandedBytes = 0;
-  try {
-    entries = unzipSync(bytes, {
-      // Checked before anything is expanded: a hostile name or a zip bomb never reaches memory.
-      filter: (entry) => {
-        if (!isSafeEntryName(entry.name)) {
-          throw new SpirometryInputError('zip-path', `${file}: entry "${entry.name}" points outside the archive`, { file });
-        }
-        expandedBytes += entry.originalSize;
-        if (expandedBytes > MAX_FILE_BYTES) {
-          throw new SpirometryInputError('file-too-large', `${file}: expands to more than the ${MAX_FILE_BYTES} bytes accepted`, { file });
-        }
-        return true;
-      },
-    });
-  } catch (error) {
-    if (error instanceof SpirometryInputError) throw error;
-    throw new SpirometryInputError('zip', `${file}: not a readable zip archive (${(error as Error).message})`, { file });
-  }
-  const csvNames: string[] = [];
-  let sessionJson: Uint8Array | undefined;
-  for (const name of Object.keys(entries)) {
-    const base = path.posix.basename(name.replace(/\\/g, '/'));
-    if (name.endsWith('/') || name.startsWith('__MACOSX/') || base.startsWith('.')) continue;
-    if (base === 'session.json') sessionJson = entries[name];
-    else if (base.toLowerCase().endsWith('.csv')) csvNames.push(name);
-    else throw new SpirometryInputError('zip-entry', `${file}: entry "${name}" is neither an effort CSV nor session.json`, { file });
-  }
-  if (csvNames.length === 0) throw new SpirometryInputError('zip-empty', `${file}: the archive holds no effort CSV`, { file });
-  csvNames.sort((a, b) => (a < b ? -1 : a > b ? 1 : 0));
-  const csvOptions = { ...DEFAULT_EFFORT_CSV_OPTIONS, minSampleRateHz: protocol.engine.minSampleRateHz };
-  const recordings = csvNames.map((name) => parseEffortCsv(decodeUtf8(entries[name], name), name, csvOptions));
-  const demographics = sessionJson ? demographicsOf(parseZipMetadata(sessionJson, `${file}/session.json`)) : {};
-  return { recordings, demographics };
-}
-
-async function readInputs(files: readonly string[], protocol: ResolvedProtocol): Promise<Inputs> {
+function readInputs(files: readonly string[], protocol: ResolvedProtocol): Inputs {
   const sessionFiles = files.filter((file) => /\.(json|zip)$/i.test(file));
   if (sessionFiles.length > 0 && files.length > 1) {
     throw new UsageError(`give either effort CSVs or one session file, not both (${sessionFiles[0]})`);
   }
+  const limits = decodeLimits(protocol);
   if (sessionFiles.length === 1) {
     const file = sessionFiles[0];
-    const bytes = readInputFile(file);
-    return /\.zip$/i.test(file) ? readZip(path.basename(file), bytes, protocol) : readSessionJson(path.basename(file), bytes);
+    const decoded = decodeSessionFile(path.basename(file), readInputFile(file), limits);
+    return { recordings: decoded.recordings, demographics: demographicsAtTest(decoded.metadata) };
   }
-  const csvOptions = { ...DEFAULT_EFFORT_CSV_OPTIONS, minSampleRateHz: protocol.engine.minSampleRateHz };
-  const recordings = files.map((file) => parseEffortCsv(decodeUtf8(readInputFile(file), file), path.basename(file), csvOptions));
-  return { recordings, demographics: {} };
+  const csvFiles = files.map((file) => ({ name: path.basename(file), bytes: readInputFile(file) }));
+  return { recordings: decodeEffortCsvFiles(csvFiles, limits).recordings, demographics: {} };
 }
 
 function positiveNumber(value: string | undefined, option: string): number | undefined {
@@ -351,7 +269,7 @@ function toOutput(analysis: SessionAnalysis, demographics: Partial<Demographics>
 async function run(argv: string[]): Promise<string> {
   const options = parseCommandLine(argv);
   const protocol = loadProtocol(options.protocolId);
-  const inputs = await readInputs(options.files, protocol);
+  const inputs = readInputs(options.files, protocol);
   const demographics = { ...inputs.demographics, ...options.demographics };
   const complete = demographics.ageYears !== undefined && demographics.heightCm !== undefined && demographics.sex !== undefined;
   const asked = options.demographics;

@@ -1,5 +1,5 @@
 import { sql } from 'drizzle-orm';
-import { index, integer, sqliteTable, text, uniqueIndex } from 'drizzle-orm/sqlite-core';
+import { index, integer, real, sqliteTable, text, uniqueIndex } from 'drizzle-orm/sqlite-core';
 
 const createdAt = () =>
   text('created_at')
@@ -22,6 +22,8 @@ export const studies = sqliteTable('studies', {
   sponsor: text('sponsor').notNull(),
   indication: text('indication').notNull(),
   protocolRuleSetId: text('protocol_rule_set_id').notNull(),
+  /** Reference equations for predicted values (ecsc-1993 is built in; the others need an imported set). */
+  equationsId: text('equations_id').notNull().default('ecsc-1993'),
   createdAt: createdAt(),
 });
 
@@ -105,4 +107,262 @@ export const apiTokens = sqliteTable(
     revokedAt: text('revoked_at'),
   },
   (table) => [index('api_tokens_user').on(table.userId)],
+);
+
+/** Visits of a study's schedule, with their windows in days around the planned day. */
+export const visits = sqliteTable(
+  'visits',
+  {
+    id: text('id').primaryKey(),
+    studyId: text('study_id')
+      .notNull()
+      .references(() => studies.id),
+    code: text('code').notNull(),
+    name: text('name').notNull(),
+    ordinal: integer('ordinal').notNull(),
+    dayOffset: integer('day_offset').notNull(),
+    windowBeforeDays: integer('window_before_days').notNull(),
+    windowAfterDays: integer('window_after_days').notNull(),
+  },
+  (table) => [uniqueIndex('visits_study_code').on(table.studyId, table.code)],
+);
+
+/** Timepoints tested within a visit (e.g. pre-dose, 2 h post-dose). */
+export const timepoints = sqliteTable(
+  'timepoints',
+  {
+    id: text('id').primaryKey(),
+    studyId: text('study_id')
+      .notNull()
+      .references(() => studies.id),
+    code: text('code').notNull(),
+    name: text('name').notNull(),
+    ordinal: integer('ordinal').notNull(),
+  },
+  (table) => [uniqueIndex('timepoints_study_code').on(table.studyId, table.code)],
+);
+
+/** Trial subjects by pseudonymous code only: no names, no dates of birth. */
+export const subjects = sqliteTable(
+  'subjects',
+  {
+    id: text('id').primaryKey(),
+    studyId: text('study_id')
+      .notNull()
+      .references(() => studies.id),
+    siteId: text('site_id')
+      .notNull()
+      .references(() => sites.id),
+    code: text('code').notNull(),
+    createdAt: createdAt(),
+  },
+  (table) => [uniqueIndex('subjects_study_code').on(table.studyId, table.code), index('subjects_site').on(table.siteId)],
+);
+
+/** One spirometry session: one subject, visit, timepoint and pre/post bronchodilator set. */
+export const testSessions = sqliteTable(
+  'test_sessions',
+  {
+    id: text('id').primaryKey(),
+    studyId: text('study_id')
+      .notNull()
+      .references(() => studies.id),
+    siteId: text('site_id')
+      .notNull()
+      .references(() => sites.id),
+    subjectId: text('subject_id')
+      .notNull()
+      .references(() => subjects.id),
+    visitId: text('visit_id')
+      .notNull()
+      .references(() => visits.id),
+    timepointId: text('timepoint_id')
+      .notNull()
+      .references(() => timepoints.id),
+    bronchodilator: text('bronchodilator', { enum: ['pre', 'post'] }).notNull(),
+    /** ISO UTC; the site's IANA zone beside it gives the local time. */
+    testedAt: text('tested_at').notNull(),
+    timeZone: text('time_zone').notNull(),
+    ageYears: real('age_years').notNull(),
+    heightCm: real('height_cm').notNull(),
+    weightKg: real('weight_kg'),
+    sex: text('sex', { enum: ['female', 'male'] }).notNull(),
+    ethnicity: text('ethnicity'),
+    technicianCode: text('technician_code').notNull(),
+    deviceManufacturer: text('device_manufacturer'),
+    deviceModel: text('device_model'),
+    deviceSerialNumber: text('device_serial_number'),
+    status: text('status').notNull(),
+    /** JSON array of the reasons the last file was rejected. */
+    rejectionReasons: text('rejection_reasons').notNull().default('[]'),
+    /** JSON of the engine's session-level first pass, null before a checked file. */
+    checkJson: text('check_json'),
+    fev1Grade: text('fev1_grade'),
+    fvcGrade: text('fvc_grade'),
+    currentUploadId: text('current_upload_id'),
+    registeredBy: text('registered_by')
+      .notNull()
+      .references(() => users.id),
+    registeredAt: text('registered_at').notNull(),
+    updatedAt: text('updated_at').notNull(),
+  },
+  (table) => [
+    uniqueIndex('test_sessions_slot').on(table.subjectId, table.visitId, table.timepointId, table.bronchodilator),
+    index('test_sessions_study_site').on(table.studyId, table.siteId),
+    index('test_sessions_status').on(table.studyId, table.status),
+  ],
+);
+
+/** Every file received, kept with its checksum whether or not it could be used. */
+export const uploads = sqliteTable(
+  'uploads',
+  {
+    id: text('id').primaryKey(),
+    studyId: text('study_id')
+      .notNull()
+      .references(() => studies.id),
+    sessionId: text('session_id')
+      .notNull()
+      .references(() => testSessions.id),
+    objectKey: text('object_key').notNull().unique(),
+    sha256: text('sha256').notNull(),
+    sizeBytes: integer('size_bytes').notNull(),
+    originalName: text('original_name').notNull(),
+    contentType: text('content_type').notNull(),
+    detectedFormat: text('detected_format'),
+    uploadedBy: text('uploaded_by')
+      .notNull()
+      .references(() => users.id),
+    receivedAt: text('received_at').notNull(),
+    outcome: text('outcome', { enum: ['checked', 'rejected'] }).notNull(),
+    /** JSON array of reasons when rejected. */
+    errors: text('errors').notNull().default('[]'),
+    processedAt: text('processed_at').notNull(),
+  },
+  (table) => [uniqueIndex('uploads_study_sha256').on(table.studyId, table.sha256), index('uploads_session').on(table.sessionId)],
+);
+
+/** One forced expiratory effort of a checked file: the engine's metrics, findings and suggested verdicts. */
+export const efforts = sqliteTable(
+  'efforts',
+  {
+    id: text('id').primaryKey(),
+    sessionId: text('session_id')
+      .notNull()
+      .references(() => testSessions.id),
+    uploadId: text('upload_id')
+      .notNull()
+      .references(() => uploads.id),
+    effortIndex: integer('effort_index').notNull(),
+    label: text('label').notNull(),
+    signal: text('signal', { enum: ['volume', 'flow'] }).notNull(),
+    sampleRateHz: real('sample_rate_hz').notNull(),
+    sampleCount: integer('sample_count').notNull(),
+    fev1L: real('fev1_l'),
+    fvcL: real('fvc_l').notNull(),
+    pefLPerS: real('pef_l_per_s').notNull(),
+    suggestedFev1Verdict: text('suggested_fev1_verdict').notNull(),
+    suggestedFvcVerdict: text('suggested_fvc_verdict').notNull(),
+    /** JSON of every metric (EffortMetrics). */
+    metricsJson: text('metrics_json').notNull(),
+    /** JSON array of findings with their numbers. */
+    findingsJson: text('findings_json').notNull(),
+    /** JSON of the reasons behind each suggested verdict. */
+    verdictReasonsJson: text('verdict_reasons_json').notNull(),
+  },
+  (table) => [uniqueIndex('efforts_upload_index').on(table.uploadId, table.effortIndex), index('efforts_session').on(table.sessionId)],
+);
+
+/** Calibration (syringe) checks of site spirometers, entered or carried in session files. */
+export const calibrationChecks = sqliteTable(
+  'calibration_checks',
+  {
+    id: text('id').primaryKey(),
+    studyId: text('study_id')
+      .notNull()
+      .references(() => studies.id),
+    siteId: text('site_id')
+      .notNull()
+      .references(() => sites.id),
+    deviceSerialNumber: text('device_serial_number').notNull(),
+    syringeVolumeL: real('syringe_volume_l').notNull(),
+    measuredVolumeL: real('measured_volume_l').notNull(),
+    checkedAt: text('checked_at').notNull(),
+    errorPercent: real('error_percent').notNull(),
+    withinTolerance: integer('within_tolerance', { mode: 'boolean' }).notNull(),
+    source: text('source', { enum: ['entered', 'upload'] }).notNull(),
+    uploadId: text('upload_id').references(() => uploads.id),
+    enteredBy: text('entered_by')
+      .notNull()
+      .references(() => users.id),
+    enteredAt: text('entered_at').notNull(),
+  },
+  (table) => [index('calibration_checks_site').on(table.siteId, table.checkedAt)],
+);
+
+/** Locks on data: a whole study, a site, a subject, a visit or one session. */
+export const dataLocks = sqliteTable(
+  'data_locks',
+  {
+    id: text('id').primaryKey(),
+    studyId: text('study_id')
+      .notNull()
+      .references(() => studies.id),
+    scope: text('scope', { enum: ['study', 'site', 'subject', 'visit', 'session'] }).notNull(),
+    /** Id of the locked site, subject, visit or session; the study id for a study lock. */
+    scopeId: text('scope_id').notNull(),
+    reason: text('reason').notNull(),
+    lockedBy: text('locked_by')
+      .notNull()
+      .references(() => users.id),
+    lockedAt: text('locked_at').notNull(),
+    unlockedBy: text('unlocked_by').references(() => users.id),
+    unlockedAt: text('unlocked_at'),
+    unlockReason: text('unlock_reason'),
+  },
+  (table) => [index('data_locks_scope').on(table.studyId, table.scope, table.scopeId)],
+);
+
+/**
+ * The audit trail: append-only (triggers refuse UPDATE and DELETE), each row chained to the one
+ * before by a SHA-256 hash so that tampering with stored rows is detectable.
+ */
+export const auditEvents = sqliteTable(
+  'audit_events',
+  {
+    sequence: integer('sequence').primaryKey({ autoIncrement: true }),
+    at: text('at').notNull(),
+    userId: text('user_id').notNull(),
+    role: text('role').notNull(),
+    studyId: text('study_id'),
+    siteId: text('site_id'),
+    entity: text('entity').notNull(),
+    entityId: text('entity_id').notNull(),
+    action: text('action').notNull(),
+    oldValue: text('old_value'),
+    newValue: text('new_value'),
+    reason: text('reason'),
+    previousHash: text('previous_hash').notNull(),
+    hash: text('hash').notNull(),
+  },
+  (table) => [index('audit_events_study').on(table.studyId, table.sequence), index('audit_events_entity').on(table.entity, table.entityId)],
+);
+
+/** Messages Tidemark sent (or tried to send) to a user; also shown in the app. */
+export const userMessages = sqliteTable(
+  'user_messages',
+  {
+    id: text('id').primaryKey(),
+    userId: text('user_id')
+      .notNull()
+      .references(() => users.id),
+    toAddress: text('to_address').notNull(),
+    subject: text('subject').notNull(),
+    body: text('body').notNull(),
+    link: text('link'),
+    createdAt: text('created_at').notNull(),
+    delivery: text('delivery', { enum: ['pending', 'sent', 'failed'] }).notNull(),
+    failure: text('failure'),
+  },
+  (table) => [index('user_messages_user').on(table.userId, table.createdAt)],
 );

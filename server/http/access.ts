@@ -60,3 +60,21 @@ export function checkAccess(
   }
   return scope;
 }
+
+/** The role a caller acts in for a route: the first of the route's roles they hold in the study. */
+export function actingRole(principal: Principal, studyId: string, roles: readonly Role[]): Role {
+  const held = principal.assignments.find((assignment) => assignment.studyId === studyId && roles.includes(assignment.role));
+  if (!held) throw AppError.forbidden(`This needs the role ${describeRoles(roles)} in the study.`);
+  return held.role;
+}
+
+/** Whether a site is inside the caller's scope. */
+export function siteInScope(scope: SiteScope, siteId: string): boolean {
+  return scope.allSites || scope.siteIds.includes(siteId);
+}
+
+/** The audit actor for a study route: the user and the role they act in. */
+export function studyActor(principal: Principal | undefined, studyId: string, roles: readonly Role[]): { userId: string; role: Role } {
+  if (!principal) throw AppError.unauthenticated();
+  return { userId: principal.user.id, role: actingRole(principal, studyId, roles) };
+}

@@ -42,7 +42,7 @@ export function buildOpenApiDocument(routes: readonly ApiRoute[], version: strin
         ? { description: 'Success', content: { 'application/json': { schema: toJsonSchema(route.response, 'output') } } }
         : { description: route.responseDescription ?? 'Success, no body' },
     };
-    for (const status of ['400', '401', '403', '404', '409']) {
+    for (const status of ['400', '401', '403', '404', '409', ...(route.fileUpload ? ['413', '422'] : [])]) {
       responses[status] = { $ref: '#/components/responses/Error' };
     }
     paths[openApiPath] ??= {};
@@ -53,7 +53,30 @@ export function buildOpenApiDocument(routes: readonly ApiRoute[], version: strin
       'x-tidemark-access': route.access,
       security: route.access.kind === 'public' ? [] : [{ sessionCookie: [] }, { bearerToken: [] }],
       parameters: [...parametersOf(route.params, 'path'), ...parametersOf(route.query, 'query')],
-      ...(route.body
+      ...(route.fileUpload
+        ? {
+            requestBody: {
+              required: true,
+              description: route.fileUpload.description,
+              content: {
+                'multipart/form-data': {
+                  schema: {
+                    type: 'object',
+                    required: [route.fileUpload.field],
+                    properties: {
+                      [route.fileUpload.field]: {
+                        type: 'string',
+                        format: 'binary',
+                        description: `At most ${route.fileUpload.maxBytes} bytes.`,
+                      },
+                      ...(route.body ? ((toJsonSchema(route.body, 'input').properties as JsonSchema | undefined) ?? {}) : {}),
+                    },
+                  },
+                },
+              },
+            },
+          }
+        : route.body
         ? {
             requestBody: {
               required: true,

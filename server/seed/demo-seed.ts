@@ -1,3 +1,5 @@
+import type { Logger } from 'pino';
+import type { AppServices } from '../app.js';
 import { eq } from 'drizzle-orm';
 import type { TidemarkDatabase } from '../db/database.js';
 import { roleAssignments, sites, studies, users } from '../db/schema.js';
@@ -32,3 +34,6 @@ export function seedDemoStudy(db: TidemarkDatabase): boolean {
   });
   return true;
 }
+
+/** Uploads the demo sessions through the real pipeline once (filled in with the demo scenario). */
+export async function seedDemoSessions(_services: AppServices, _logger: Logger): Promise<void> {}

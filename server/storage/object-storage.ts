@@ -1,4 +1,12 @@
-import { GetObjectCommand, HeadBucketCommand, PutObjectCommand, S3Client } from '@aws-sdk/client-s3';
+import {
+  DeleteObjectCommand,
+  GetObjectCommand,
+  HeadBucketCommand,
+  HeadObjectCommand,
+  ListObjectsV2Command,
+  PutObjectCommand,
+  S3Client,
+} from '@aws-sdk/client-s3';
 import type { AppConfig } from '../config.js';
 
 /** The S3-compatible object store, reached only through the AWS SDK (the local fake or a real service). */
@@ -35,6 +43,33 @@ export class ObjectStorage {
     const result = await this.client.send(new GetObjectCommand({ Bucket: this.settings.bucket, Key: key }));
     if (!result.Body) throw new Error(`Object ${key} has no body`);
     return Buffer.from(await result.Body.transformToByteArray());
+  }
+
+  /** The object's user metadata (lower-case keys), or undefined when there is no such object. */
+  async metadata(key: string): Promise<Record<string, string> | undefined> {
+    try {
+      const result = await this.client.send(new HeadObjectCommand({ Bucket: this.settings.bucket, Key: key }));
+      return result.Metadata ?? {};
+    } catch (error) {
+      if ((error as { name?: string }).name === 'NotFound') return undefined;
+      throw error;
+    }
+  }
+
+  /** Every key under a prefix, page by page. */
+  async *keys(prefix: string): AsyncGenerator<string> {
+    let continuationToken: string | undefined;
+    do {
+      const page = await this.client.send(
+        new ListObjectsV2Command({ Bucket: this.settings.bucket, Prefix: prefix, ContinuationToken: continuationToken }),
+      );
+      for (const item of page.Contents ?? []) if (item.Key) yield item.Key;
+      continuationToken = page.IsTruncated ? page.NextContinuationToken : undefined;
+    } while (continuationToken);
+  }
+
+  async delete(key: string): Promise<void> {
+    await this.client.send(new DeleteObjectCommand({ Bucket: this.settings.bucket, Key: key }));
   }
 
   destroy(): void {
