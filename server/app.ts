@@ -37,9 +37,10 @@ import { StudyRepository } from './studies/study-repository.js';
 import { studyRoutes } from './studies/study-routes.js';
 import { StudyService } from './studies/study-service.js';
 import { uploadRoutes } from './uploads/upload-routes.js';
-import { UploadService } from './uploads/upload-service.js';
+import { UploadService, type UploadFaultHooks } from './uploads/upload-service.js';
 import { UserRepository } from './users/user-repository.js';
 import type { ResolvedProtocol } from '../shared/spirometry/protocol.js';
+
 
 export const APP_VERSION = '0.1.0';
 
@@ -52,6 +53,8 @@ export interface AppDependencies {
   readonly relyingParty: OidcRelyingParty;
   readonly logger: Logger;
   readonly clock?: () => Date;
+  /** Crash points for the crash-consistency tests only. */
+  readonly uploadFaults?: UploadFaultHooks;
 }
 
 /** Services that outlive a request: start-up work and shutdown need them too. */
@@ -97,6 +100,7 @@ export function createApp(deps: AppDependencies): { app: Express; registry: ApiR
     config.uploads,
     clock,
     logger,
+    deps.uploadFaults,
   );
   const health = new HealthService(
     {

@@ -16,6 +16,8 @@ const environmentSchema = z.object({
   TIDEMARK_DB_FILE: z.string().optional(),
   TIDEMARK_WEB_DIR: z.string().default('dist/web/browser'),
   TIDEMARK_SEED_DEMO: flag.default(true),
+  /** Whether the demo study also gets its uploaded sessions (off for benchmarks that want an empty study). */
+  TIDEMARK_SEED_DEMO_SESSIONS: flag.default(true),
   TIDEMARK_REFERENCE_DIR: z.string().optional(),
 
   TIDEMARK_S3_ENDPOINT: optionalUrl,
@@ -53,6 +55,7 @@ export interface AppConfig {
   readonly databaseFile: string;
   readonly webDir: string;
   readonly seedDemo: boolean;
+  readonly seedDemoSessions: boolean;
   readonly referenceDir: string | undefined;
   readonly storage: {
     endpoint: string | undefined;
@@ -103,6 +106,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): AppConfig {
     databaseFile: path.resolve(e.TIDEMARK_DB_FILE ?? path.join(dataDir, 'tidemark.sqlite')),
     webDir: path.resolve(e.TIDEMARK_WEB_DIR),
     seedDemo: e.TIDEMARK_SEED_DEMO,
+    seedDemoSessions: e.TIDEMARK_SEED_DEMO && e.TIDEMARK_SEED_DEMO_SESSIONS,
     referenceDir: e.TIDEMARK_REFERENCE_DIR,
     storage: {
       endpoint: e.TIDEMARK_S3_ENDPOINT,

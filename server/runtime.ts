@@ -14,6 +14,7 @@ import { Mailer } from './mail/mailer.js';
 import { seedDemoSessions, seedDemoStudy } from './seed/demo-seed.js';
 import { DEMO_PASSWORD, DEMO_USERS } from './seed/demo-study.js';
 import { ObjectStorage } from './storage/object-storage.js';
+import type { UploadFaultHooks } from './uploads/upload-service.js';
 
 /** A running Tidemark: the app on loopback plus whichever local fakes the configuration asked for. */
 export interface RunningTidemark {
@@ -31,7 +32,7 @@ export interface RunningTidemark {
  */
 export async function startTidemark(
   config: AppConfig,
-  options: { logger?: Logger; clock?: () => Date } = {},
+  options: { logger?: Logger; clock?: () => Date; uploadFaults?: UploadFaultHooks } = {},
 ): Promise<RunningTidemark> {
   const logger = options.logger ?? pino({ level: config.logLevel });
   const server = http.createServer();
@@ -90,13 +91,22 @@ export async function startTidemark(
       { ...config.identity, issuer: config.identity.issuer },
       `${config.publicUrl}/auth/callback`,
     );
-    const deps: AppDependencies = { config, db, storage, mailer, relyingParty, logger, clock: options.clock };
+    const deps: AppDependencies = {
+      config,
+      db,
+      storage,
+      mailer,
+      relyingParty,
+      logger,
+      clock: options.clock,
+      uploadFaults: options.uploadFaults,
+    };
     const { app, services } = createApp(deps);
     closers.push(() => services.messages.settle());
     // Before the first request: files stored by requests that died before their commit are applied now.
     const swept = await services.uploads.sweepOrphans();
     if (swept.applied + swept.discarded + swept.kept > 0) logger.warn(swept, 'reconciled uploads interrupted by a crash');
-    if (config.seedDemo) await seedDemoSessions(services, logger);
+    if (config.seedDemoSessions) await seedDemoSessions(services, logger);
     server.on('request', app);
 
     return {

@@ -26,3 +26,9 @@ export function openDatabase(file: string): TidemarkDatabase {
 export function pingDatabase(db: TidemarkDatabase): void {
   db.$client.prepare('select 1').get();
 }
+
+/** Opens an existing database file read-only, without migrating: for checks beside a running app. */
+export function openDatabaseReadOnly(file: string): TidemarkDatabase {
+  const client = new Sqlite(file, { readonly: true, fileMustExist: true });
+  return drizzle({ client, schema });
+}

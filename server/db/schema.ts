@@ -24,6 +24,23 @@ export const studies = sqliteTable('studies', {
   protocolRuleSetId: text('protocol_rule_set_id').notNull(),
   /** Reference equations for predicted values (ecsc-1993 is built in; the others need an imported set). */
   equationsId: text('equations_id').notNull().default('ecsc-1993'),
+  /** The imported reference set the study pins (null: the built-in set named by equationsId). */
+  referenceSetId: text('reference_set_id'),
+  /** Pinned rule-set version; null means the latest in protocols/. */
+  protocolVersion: integer('protocol_version'),
+  /** single, dual-all (two reads of every session) or dual-sample (two reads of a sampled fraction). */
+  readDesign: text('read_design', { enum: ['single', 'dual-all', 'dual-sample'] })
+    .notNull()
+    .default('single'),
+  /** Fraction of sessions read twice under dual-sample. */
+  dualSampleFraction: real('dual_sample_fraction').notNull().default(0),
+  /** JSON of what readers and monitors may see (visit, timepoint, pre/post; monitors blinded to treatment). */
+  blindingJson: text('blinding_json')
+    .notNull()
+    .default('{"readersSeeVisit":true,"readersSeeTimepoint":true,"readersSeeBronchodilator":true,"monitorsBlinded":true}'),
+  /** Target time from a checked file to feedback at the site. */
+  turnaroundHours: integer('turnaround_hours').notNull().default(48),
+  updatedAt: text('updated_at'),
   createdAt: createdAt(),
 });
 
@@ -366,3 +383,20 @@ export const userMessages = sqliteTable(
   },
   (table) => [index('user_messages_user').on(table.userId, table.createdAt)],
 );
+
+/** Reference-equation lookup files imported by an admin, kept in storage with their checksum. */
+export const referenceSets = sqliteTable('reference_sets', {
+  id: text('id').primaryKey(),
+  equationsId: text('equations_id').notNull(),
+  label: text('label').notNull(),
+  originalName: text('original_name').notNull(),
+  objectKey: text('object_key').notNull().unique(),
+  sha256: text('sha256').notNull(),
+  sizeBytes: integer('size_bytes').notNull(),
+  /** JSON of the validation: sheets/columns found, ages covered, spot checks with expected and found values. */
+  validationJson: text('validation_json').notNull(),
+  importedBy: text('imported_by')
+    .notNull()
+    .references(() => users.id),
+  importedAt: text('imported_at').notNull(),
+});

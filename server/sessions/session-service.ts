@@ -137,12 +137,12 @@ export class SessionService {
     return this.detailOf(row.id);
   }
 
-  /** Corrects registration data; once a file is in, a reason is required and the change is audited with it. */
+  /** Corrects registration data; once a file was received, a reason is required and the change is audited with it. */
   correct(actor: AuditActor, studyId: string, sessionId: string, scope: SiteScope, input: CorrectSession): SessionDetail {
     const session = this.requireSession(studyId, sessionId, scope);
     this.assertWritable(session);
-    if (session.currentUploadId && !input.reason) {
-      throw AppError.badRequest('This session already has a file: give a reason for the correction.', undefined, 'reason-required');
+    if (session.status !== 'awaiting-file' && !input.reason) {
+      throw AppError.badRequest('A file was already received for this session: give a reason for the correction.', undefined, 'reason-required');
     }
     const changes: Partial<SessionRow> = {};
     if (input.demographics) {
@@ -153,6 +153,7 @@ export class SessionService {
       changes.ethnicity = input.demographics.ethnicity ?? null;
     }
     if (input.technicianCode) changes.technicianCode = input.technicianCode;
+    if (input.bronchodilator) changes.bronchodilator = input.bronchodilator;
     if (input.testedAt) changes.testedAt = this.checkTestedAt(input.testedAt);
     const before = registrationValues(session);
     const after = registrationValues({ ...session, ...changes });
@@ -161,6 +162,14 @@ export class SessionService {
     );
     if (changedKeys.length === 0) return this.detailOf(sessionId);
     this.audit.write(actor, (record) => {
+      const taken = changes.bronchodilator ? this.sessions.findSessionInSlot({ ...session, ...changes }) : undefined;
+      if (taken && taken.id !== sessionId) {
+        throw AppError.conflict(
+          `Another session is already registered as the ${changes.bronchodilator}-bronchodilator set of this subject, visit and timepoint.`,
+          { sessionId: taken.id },
+          'session-exists',
+        );
+      }
       this.sessions.updateSession(sessionId, { ...changes, updatedAt: this.clock().toISOString() });
       record({
         studyId,

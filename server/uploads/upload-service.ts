@@ -25,6 +25,11 @@ export interface ReceivedFile {
   readonly bytes: Buffer;
 }
 
+/** Points where a crash test can stop the process; never set in production. */
+export interface UploadFaultHooks {
+  readonly afterObjectStored?: (originalName: string) => void;
+}
+
 /** Where uploads live in the bucket: one object per received file, named by its upload id. */
 export const UPLOAD_KEY_PREFIX = 'uploads/';
 
@@ -55,6 +60,7 @@ export class UploadService {
     private readonly limits: AppConfig['uploads'],
     private readonly clock: () => Date,
     private readonly logger: Logger,
+    private readonly faults: UploadFaultHooks = {},
   ) {}
 
   /** Receives a session's file; answers with the checked session, or 422 listing why the stored file cannot be used. */
@@ -77,6 +83,8 @@ export class UploadService {
       'original-name': encodeURIComponent(file.originalName),
       'received-at': receivedAt,
     });
+
+    this.faults.afterObjectStored?.(file.originalName);
 
     let upload: UploadRow;
     try {

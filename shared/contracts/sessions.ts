@@ -75,6 +75,7 @@ export type RegisterSession = z.infer<typeof registerSessionSchema>;
 
 /** `PATCH .../sessions/:sessionId`: corrections to registration data, with a reason once a file exists. */
 export const correctSessionSchema = z.object({
+  bronchodilator: bronchodilatorSchema.optional(),
   demographics: testDemographicsSchema.optional(),
   technicianCode: code.optional(),
   testedAt: z.iso.datetime({ offset: true }).optional(),

@@ -20,6 +20,7 @@ import {
   type SessionDocument,
 } from '../../shared/spirometry/session-document.js';
 import { generateEffort, generateSession, type EffortSpec } from '../../shared/spirometry/synthetic/curve-generator.js';
+import { ingestBenchmarkRows } from './ingest-bench.js';
 
 setFlagsFromString('--expose-gc');
 const collectGarbage = runInNewContext('gc') as () => void;
@@ -182,6 +183,8 @@ const heap10k = heapAfter(recordings, 10000);
 const mib = (bytes: number): string => `${number(bytes / 1024 / 1024, 1)} MiB`;
 rows.push(['heap after 1k efforts (100 Hz, after GC)', mib(heap1k), 'flat', `${number(heap1k / startHeap, 2)} (baseline: heap before, ${mib(startHeap)})`]);
 rows.push(['heap after 10k more efforts (100 Hz, after GC)', mib(heap10k), 'flat', `${number(heap10k / heap1k, 2)} (baseline: heap after 1k)`]);
+
+rows.push(...(await ingestBenchmarkRows(number)));
 
 const table = [
   '| figure | value | goal | ratio to baseline |',

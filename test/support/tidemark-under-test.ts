@@ -12,9 +12,9 @@ process.env['AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED'] ??= 'true';
 /** Starts the real app with real local fakes on loopback ports chosen by the OS, in a throw-away data folder. */
 export async function startTidemarkForTest(
   env: Record<string, string> = {},
-  options: { clock?: () => Date } = {},
+  options: { clock?: () => Date; dataDir?: string; keepData?: boolean } = {},
 ): Promise<RunningTidemark & { dataDir: string }> {
-  const dataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'tidemark-test-'));
+  const dataDir = options.dataDir ?? fs.mkdtempSync(path.join(os.tmpdir(), 'tidemark-test-'));
   const config = loadConfig({
     PORT: '0',
     TIDEMARK_DATA_DIR: dataDir,
@@ -31,7 +31,7 @@ export async function startTidemarkForTest(
     dataDir,
     close: async () => {
       await running.close();
-      fs.rmSync(dataDir, { recursive: true, force: true });
+      if (!options.keepData) fs.rmSync(dataDir, { recursive: true, force: true });
     },
   };
 }
