@@ -81,7 +81,7 @@ export async function startTidemark(
     closers.push(() => {
       db.$client.close();
     });
-    if (config.seedDemo && seedDemoStudy(db)) logger.info('seeded the demo study');
+    if (config.seedDemo && seedDemoStudy(db, options.clock?.())) logger.info('seeded the demo study');
 
     const storage = new ObjectStorage(config.storage);
     closers.push(() => storage.destroy());
@@ -104,9 +104,14 @@ export async function startTidemark(
     const { app, services } = createApp(deps);
     closers.push(() => services.messages.settle());
     // Before the first request: files stored by requests that died before their commit are applied now.
-    const swept = await services.uploads.sweepOrphans();
-    if (swept.applied + swept.discarded + swept.kept > 0) logger.warn(swept, 'reconciled uploads interrupted by a crash');
-    if (config.seedDemoSessions) await seedDemoSessions(services, logger);
+    try {
+      const swept = await services.uploads.sweepOrphans();
+      if (swept.applied + swept.discarded + swept.kept > 0) logger.warn(swept, 'reconciled uploads interrupted by a crash');
+      if (config.seedDemoSessions) await seedDemoSessions(services, logger, options.clock?.());
+    } catch (error) {
+      // Storage down at start: the app still serves (health reports it); the sweep runs again at the next start.
+      logger.error({ err: error }, 'could not reconcile stored uploads or seed demo sessions; storage unavailable?');
+    }
     server.on('request', app);
 
     return {
