@@ -40,7 +40,15 @@ import { uploadRoutes } from './uploads/upload-routes.js';
 import { UploadService, type UploadFaultHooks } from './uploads/upload-service.js';
 import { UserRepository } from './users/user-repository.js';
 import type { ResolvedProtocol } from '../shared/spirometry/protocol.js';
+import { protocolRoutes } from './protocols/protocol-routes.js';
+import { ProtocolService } from './protocols/protocol-service.js';
+import { ReplayRepository } from './replay/replay-repository.js';
+import { replayRoutes } from './replay/replay-routes.js';
+import { ReplayService } from './replay/replay-service.js';
 
+import { ReferenceSetRepository } from './reference-sets/reference-set-repository.js';
+import { referenceSetRoutes } from './reference-sets/reference-set-routes.js';
+import { ReferenceSetService } from './reference-sets/reference-set-service.js';
 
 export const APP_VERSION = '0.1.0';
 
@@ -63,6 +71,7 @@ export interface AppServices {
   readonly uploads: UploadService;
   readonly sessions: SessionService;
   readonly messages: MessageService;
+  readonly referenceSets: ReferenceSetService;
 }
 
 /** Wires the Express app; listening is the caller's business. */
@@ -79,6 +88,8 @@ export function createApp(deps: AppDependencies): { app: Express; registry: ApiR
   const messages = new MessageService(new MessageRepository(db), users, mailer, () => config.publicUrl, clock, logger);
   const calibrationRepository = new CalibrationRepository(db);
   const calibration = new CalibrationService(calibrationRepository, studyRepository, audit, clock);
+  const ruleSets = new ProtocolService();
+  const replays = new ReplayService(new ReplayRepository(db), studyRepository, ruleSets, audit, storage, config.uploads, clock, logger);
   const protocols = new Map<string, ResolvedProtocol>();
   const protocolFor = (ruleSetId: string): ResolvedProtocol => {
     let protocol = protocols.get(ruleSetId);
@@ -111,6 +122,7 @@ export function createApp(deps: AppDependencies): { app: Express; registry: ApiR
     },
     APP_VERSION,
   );
+  const referenceSets = new ReferenceSetService(new ReferenceSetRepository(db), audit, storage, clock, logger);
   const registry = new ApiRouteRegistry();
 
   const app = express();
@@ -170,11 +182,14 @@ export function createApp(deps: AppDependencies): { app: Express; registry: ApiR
   app.use(sessionRoutes(registry, sessions));
   app.use(uploadRoutes(registry, uploads, config.uploads.maxBytes));
   app.use(calibrationRoutes(registry, calibration));
+  app.use(referenceSetRoutes(registry, referenceSets));
+  app.use(protocolRoutes(registry, ruleSets));
+  app.use(replayRoutes(registry, replays));
   app.use(['/api', '/auth'], apiNotFound);
 
   serveWebClient(app, config.webDir);
   app.use(errorHandler);
-  return { app, registry, services: { audit, uploads, sessions, messages } };
+  return { app, registry, services: { audit, uploads, sessions, messages, referenceSets } };
 }
 
 /** Serves the built Angular app, with every other GET falling back to its index page. */

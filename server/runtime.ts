@@ -107,6 +107,7 @@ export async function startTidemark(
     try {
       const swept = await services.uploads.sweepOrphans();
       if (swept.applied + swept.discarded + swept.kept > 0) logger.warn(swept, 'reconciled uploads interrupted by a crash');
+      await services.referenceSets.removeInterruptedImports();
       if (config.seedDemoSessions) await seedDemoSessions(services, logger, options.clock?.());
     } catch (error) {
       // Storage down at start: the app still serves (health reports it); the sweep runs again at the next start.

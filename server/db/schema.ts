@@ -217,6 +217,10 @@ export const testSessions = sqliteTable(
     fev1Grade: text('fev1_grade'),
     fvcGrade: text('fvc_grade'),
     currentUploadId: text('current_upload_id'),
+    /** Whether this session needs two independent reads (dual design, or drawn in the dual sample). */
+    dualRead: integer('dual_read', { mode: 'boolean' }).notNull().default(false),
+    /** When the final read's feedback was released to the site. */
+    feedbackReleasedAt: text('feedback_released_at'),
     registeredBy: text('registered_by')
       .notNull()
       .references(() => users.id),
@@ -400,3 +404,136 @@ export const referenceSets = sqliteTable('reference_sets', {
     .references(() => users.id),
   importedAt: text('imported_at').notNull(),
 });
+
+/** One over-read of one session's checked file by one reader: first, second (dual design) or adjudication. */
+export const reads = sqliteTable(
+  'reads',
+  {
+    id: text('id').primaryKey(),
+    studyId: text('study_id')
+      .notNull()
+      .references(() => studies.id),
+    sessionId: text('session_id')
+      .notNull()
+      .references(() => testSessions.id),
+    uploadId: text('upload_id')
+      .notNull()
+      .references(() => uploads.id),
+    readerId: text('reader_id')
+      .notNull()
+      .references(() => users.id),
+    kind: text('kind', { enum: ['first', 'second', 'adjudication'] }).notNull(),
+    /** What the reader sees instead of site, subject and dates: unique per read. */
+    blindCode: text('blind_code').notNull().unique(),
+    status: text('status', { enum: ['in-progress', 'withdrawn', 'signed'] }).notNull(),
+    /** Optimistic concurrency: every saved change increments it. */
+    version: integer('version').notNull().default(1),
+    claimedAt: text('claimed_at').notNull(),
+    dueAt: text('due_at').notNull(),
+    updatedAt: text('updated_at').notNull(),
+    /** JSON of the reader's choices beyond verdicts: reported-value overrides, session grade notes. */
+    selectionJson: text('selection_json').notNull().default('{}'),
+    /** Plain-words feedback for the site about the whole session. */
+    feedbackText: text('feedback_text').notNull().default(''),
+    /** JSON of the recomputed result at signing: grades, reported values, repeatability. */
+    resultJson: text('result_json'),
+    signatureId: text('signature_id'),
+    signedAt: text('signed_at'),
+  },
+  (table) => [index('reads_session').on(table.sessionId), index('reads_reader').on(table.readerId, table.status)],
+);
+
+/** A reader's verdicts on one effort, beside the engine's suggestion they started from. */
+export const readVerdicts = sqliteTable(
+  'read_verdicts',
+  {
+    readId: text('read_id')
+      .notNull()
+      .references(() => reads.id),
+    effortId: text('effort_id')
+      .notNull()
+      .references(() => efforts.id),
+    effortIndex: integer('effort_index').notNull(),
+    fev1Verdict: text('fev1_verdict').notNull(),
+    fvcVerdict: text('fvc_verdict').notNull(),
+    suggestedFev1Verdict: text('suggested_fev1_verdict').notNull(),
+    suggestedFvcVerdict: text('suggested_fvc_verdict').notNull(),
+    /** JSON array of finding codes the reader confirms or adds. */
+    findingsJson: text('findings_json').notNull().default('[]'),
+    comment: text('comment').notNull().default(''),
+  },
+  (table) => [uniqueIndex('read_verdicts_read_effort').on(table.readId, table.effortIndex)],
+);
+
+/**
+ * Electronic signatures (21 CFR 11.50/11.70): who, the printed name, when, what it means, and a
+ * hash of the signed record's content so that a later change shows the signature as no longer valid.
+ */
+export const signatures = sqliteTable(
+  'signatures',
+  {
+    id: text('id').primaryKey(),
+    userId: text('user_id')
+      .notNull()
+      .references(() => users.id),
+    printedName: text('printed_name').notNull(),
+    meaning: text('meaning', { enum: ['authored', 'reviewed', 'approved', 'locked', 'unlocked', 'released'] }).notNull(),
+    signedAt: text('signed_at').notNull(),
+    recordType: text('record_type').notNull(),
+    recordId: text('record_id').notNull(),
+    contentHash: text('content_hash').notNull(),
+    /** When the identity provider last authenticated the signer (the re-authentication behind this signature). */
+    authTime: text('auth_time').notNull(),
+    method: text('method').notNull(),
+  },
+  (table) => [index('signatures_record').on(table.recordType, table.recordId)],
+);
+
+/** A question about a session to its site, from a reader or a data manager. */
+export const queries = sqliteTable(
+  'queries',
+  {
+    id: text('id').primaryKey(),
+    studyId: text('study_id')
+      .notNull()
+      .references(() => studies.id),
+    siteId: text('site_id')
+      .notNull()
+      .references(() => sites.id),
+    sessionId: text('session_id')
+      .notNull()
+      .references(() => testSessions.id),
+    /** The read it came from, when a reader opened it (for the reader to find it again, blinded). */
+    readId: text('read_id').references(() => reads.id),
+    openedBy: text('opened_by')
+      .notNull()
+      .references(() => users.id),
+    openedRole: text('opened_role').notNull(),
+    question: text('question').notNull(),
+    /** Whether the site is asked to repeat the test within the visit window. */
+    requestRepeat: integer('request_repeat', { mode: 'boolean' }).notNull().default(false),
+    status: text('status', { enum: ['open', 'answered', 'closed'] }).notNull(),
+    openedAt: text('opened_at').notNull(),
+    closedAt: text('closed_at'),
+    closedBy: text('closed_by').references(() => users.id),
+  },
+  (table) => [index('queries_session').on(table.sessionId), index('queries_study_status').on(table.studyId, table.status)],
+);
+
+/** The messages of a query thread: the question's follow-ups and the site's answers. */
+export const queryMessages = sqliteTable(
+  'query_messages',
+  {
+    id: text('id').primaryKey(),
+    queryId: text('query_id')
+      .notNull()
+      .references(() => queries.id),
+    authorId: text('author_id')
+      .notNull()
+      .references(() => users.id),
+    authorRole: text('author_role').notNull(),
+    body: text('body').notNull(),
+    createdAt: text('created_at').notNull(),
+  },
+  (table) => [index('query_messages_query').on(table.queryId, table.createdAt)],
+);

@@ -13,7 +13,7 @@ type Sex = 'female' | 'male';
 const SPLINE_COLUMNS = { age: 'age', mspline: 'mSpline', sspline: 'sSpline', lspline: 'lSpline' } as const;
 
 /** Plain text of a cell, whatever exceljs made of it (shared string, rich text, formula result). */
-function cellText(value: ExcelJS.CellValue): string {
+export function cellText(value: ExcelJS.CellValue): string {
   if (value === null || value === undefined) return '';
   if (typeof value === 'number' || typeof value === 'boolean') return String(value);
   if (typeof value === 'string') return value;
@@ -25,7 +25,7 @@ function cellText(value: ExcelJS.CellValue): string {
 }
 
 /** Which sex and parameter a sheet holds, from names like "Male FEV1" or "Female FEV1 FVC". */
-function sheetSubject(name: string): { sex: Sex; parameter: ReferenceParameter } | null {
+export function sheetSubject(name: string): { sex: Sex; parameter: ReferenceParameter } | null {
   const words = name.toLowerCase().split(/[^a-z0-9]+/).filter(Boolean);
   const sexIndex = words.findIndex((word) => sexFromPublishedName(word) !== null);
   if (sexIndex < 0) return null;

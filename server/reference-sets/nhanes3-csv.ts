@@ -20,8 +20,10 @@ const DEFAULT_NAMES: Nhanes3FileNames = {
   ratio: 'nhanes3/coefficients-table-6.csv',
 };
 
-const QUADRATIC_COLUMNS = ['parameter', 'sex', 'ethnicity', 'age_group', 'a0_pred', 'a1_age', 'a2_age2', 'a3_ht2_pred', 'a3_ht2_lln'] as const;
-const RATIO_COLUMNS = ['parameter', 'sex', 'ethnicity', 'a0_pred', 'a0_lln', 'a1_age'] as const;
+/** Columns of Tables 4-5 in the reference-folder layout. */
+export const QUADRATIC_COLUMNS = ['parameter', 'sex', 'ethnicity', 'age_group', 'a0_pred', 'a1_age', 'a2_age2', 'a3_ht2_pred', 'a3_ht2_lln'] as const;
+/** Columns of Table 6 in the reference-folder layout. */
+export const RATIO_COLUMNS = ['parameter', 'sex', 'ethnicity', 'a0_pred', 'a0_lln', 'a1_age'] as const;
 const QUADRATIC_PARAMETERS: readonly Nhanes3QuadraticParameter[] = ['fev1', 'fvc', 'fev6', 'pef', 'fef2575'];
 /** Published in Table 6 but not a Tidemark parameter; skipped rather than rejected. */
 const KNOWN_UNUSED = new Set(['fev1fev6']);

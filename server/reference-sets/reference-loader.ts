@@ -51,7 +51,19 @@ async function readReferenceFile(dir: string, relative: string, id: EquationsId)
  */
 export async function loadReferenceEquations(id: EquationsId, dir: string): Promise<ReferenceEquations> {
   const files = await Promise.all(REFERENCE_FILES[id].map((relative) => readReferenceFile(dir, relative, id)));
-  const names = REFERENCE_FILES[id].map((relative) => path.join(dir, relative));
+  return referenceEquationsFromFiles(id, files, REFERENCE_FILES[id].map((relative) => path.join(dir, relative)));
+}
+
+/**
+ * Builds one set of reference equations from the bytes of its files, in the order of
+ * {@link REFERENCE_FILES} (from a folder, or from an imported archive); `names` are used in
+ * messages. Throws {@link SpirometryInputError} naming file and row.
+ */
+export async function referenceEquationsFromFiles(
+  id: EquationsId,
+  files: readonly Buffer[],
+  names: readonly string[],
+): Promise<ReferenceEquations> {
   switch (id) {
     case 'gli-2012':
       return createGli2012Equations(

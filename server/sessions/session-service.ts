@@ -118,6 +118,8 @@ export class SessionService {
       fev1Grade: null,
       fvcGrade: null,
       currentUploadId: null,
+      dualRead: false,
+      feedbackReleasedAt: null,
       registeredBy: actor.userId,
       registeredAt: now,
       updatedAt: now,

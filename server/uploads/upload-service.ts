@@ -152,7 +152,7 @@ export class UploadService {
     if (cached) return cached;
     const upload = this.sessions.findUpload(session.currentUploadId)!;
     const bytes = await this.readVerified(upload);
-    const protocol = this.protocolFor(this.studies.findStudy(studyId)!.protocolRuleSetId);
+    const protocol = this.protocolOfStudy(studyId);
     const decoded = decodeSessionFile(upload.originalName, bytes, { ...this.decodeLimits(), minSampleRateHz: protocol.engine.minSampleRateHz });
     const analysis = analyzeSession(decoded.recordings, protocol, { demographics: { ageYears: session.ageYears }, plots: true });
     const curves: SessionCurves = {
@@ -401,8 +401,14 @@ export class UploadService {
       bronchodilator: session.bronchodilator,
       ageYears: session.ageYears,
     };
-    const protocol = this.protocolFor(this.studies.findStudy(session.studyId)!.protocolRuleSetId);
+    const protocol = this.protocolOfStudy(session.studyId);
     return checkSessionFile(fileName, bytes, registered, protocol, this.decodeLimits());
+  }
+
+  /** The study's rule set at its pinned version, or the latest version when none is pinned. */
+  private protocolOfStudy(studyId: string): ResolvedProtocol {
+    const study = this.studies.findStudy(studyId)!;
+    return this.protocolFor(study.protocolVersion ? `${study.protocolRuleSetId}@${study.protocolVersion}` : study.protocolRuleSetId);
   }
 
   private decodeLimits() {

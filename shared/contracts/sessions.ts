@@ -50,6 +50,12 @@ export const sessionStatusSchema = z.enum([
   'checked',
   /** The last file could not be used; the reasons are listed and the file is kept. */
   'rejected',
+  /** At least one over-read is under way or signed, and the final read is not there yet. */
+  'in-reading',
+  /** Two reads disagree; an adjudicator decides. */
+  'adjudication',
+  /** The final read is signed; its feedback goes to the site. */
+  'final',
 ]);
 export type SessionStatus = z.infer<typeof sessionStatusSchema>;
 

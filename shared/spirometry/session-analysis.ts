@@ -78,7 +78,8 @@ function completeDemographics(demographics: Partial<Demographics> | undefined): 
   return { ageYears, heightCm, sex, ...(demographics.ethnicity ? { ethnicity: demographics.ethnicity } : {}) };
 }
 
-function endpointEligibility(fev1: Repeatability, fvc: Repeatability, protocol: ResolvedProtocol): EndpointEligibility {
+/** Whether the reported FEV1 and FVC may serve as study endpoints under the protocol's tightening. */
+export function endpointEligibility(fev1: Repeatability, fvc: Repeatability, protocol: ResolvedProtocol): EndpointEligibility {
   const reasons: string[] = [];
   const { minGradeForEndpoint, minAcceptableEfforts } = protocol.study;
   const judge = (name: string, grade: Repeatability): boolean => {

@@ -42,6 +42,10 @@ export const APP_ROUTES: Routes = [
         path: 'setup',
         loadChildren: () => import('./setup/setup.routes').then((m) => m.SETUP_ROUTES),
       },
+      {
+        path: 'messages',
+        loadChildren: () => import('./messages/messages.routes').then((m) => m.MESSAGES_ROUTES),
+      },
       { path: 'forbidden', component: Forbidden, title: 'No access · Tidemark' },
     ],
   },

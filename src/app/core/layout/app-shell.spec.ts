@@ -86,6 +86,13 @@ describe('AppShell', () => {
     expect(chips).toEqual(['Data manager', 'Monitor']);
   });
 
+  it("links to the user's messages from the app bar, with a name for screen readers", async () => {
+    const { fixture } = await renderShellFor(['over-reader']);
+    const link = (fixture.nativeElement as HTMLElement).querySelector('a[data-testid="messages-link"]');
+    expect(link?.getAttribute('href')).toBe('/messages');
+    expect(link?.getAttribute('aria-label')).toBe('Messages');
+  });
+
   it('offers a skip link to the main content', async () => {
     const { fixture } = await renderShellFor(['monitor']);
     const element: HTMLElement = fixture.nativeElement;

@@ -16,6 +16,7 @@ import { MatListItem, MatListItemIcon, MatListItemTitle, MatNavList } from '@ang
 import { MatSidenav, MatSidenavContainer, MatSidenavContent } from '@angular/material/sidenav';
 import { MatSnackBar } from '@angular/material/snack-bar';
 import { MatToolbar } from '@angular/material/toolbar';
+import { MatTooltip } from '@angular/material/tooltip';
 import { Router, RouterLink, RouterLinkActive, RouterOutlet } from '@angular/router';
 import { map } from 'rxjs';
 
@@ -33,6 +34,7 @@ const NARROW_QUERY = '(max-width: 52.5rem)';
   selector: 'app-shell',
   imports: [
     MatToolbar,
+    MatTooltip,
     MatButton,
     MatIconButton,
     MatIcon,

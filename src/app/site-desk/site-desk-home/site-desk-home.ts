@@ -1,34 +1,21 @@
-import { ChangeDetectionStrategy, Component, computed, inject } from '@angular/core';
+import { ChangeDetectionStrategy, Component, inject } from '@angular/core';
+import { MatButton } from '@angular/material/button';
+import { MatIcon } from '@angular/material/icon';
+import { RouterLink } from '@angular/router';
 
-import { AuthSession } from '../../core/auth/auth-session';
-import { ROLE_LABELS } from '../../core/auth/role-labels';
-import { AreaWelcome } from '../../ui/area-welcome/area-welcome';
-import { SiteDeskApi } from '../site-desk-api';
+import { CautionNote } from '../../ui/caution-note/caution-note';
+import { SessionList } from '../session-list/session-list';
+import { SiteDeskSelection } from '../site-desk-selection';
+import { SitePicker } from '../site-picker/site-picker';
 
-/** Home of the Site desk area: what a site coordinator does here, and in which studies. */
+/** Home of the site desk: the chosen site's sessions, and the way to register the next one. */
 @Component({
   selector: 'app-site-desk-home',
-  imports: [AreaWelcome],
+  imports: [MatButton, MatIcon, RouterLink, CautionNote, SessionList, SitePicker],
   templateUrl: './site-desk-home.html',
   styleUrl: './site-desk-home.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,
 })
 export class SiteDeskHome {
-  private readonly session = inject(AuthSession);
-
-  protected readonly roleLabel = ROLE_LABELS['site-coordinator'];
-  protected readonly assignments = computed(() => this.session.assignmentsFor('site-coordinator'));
-
-  // Coordinators usually work in one study; its sites give the numbers and names to show.
-  private readonly sites = inject(SiteDeskApi).sitesOf(() => this.assignments()[0]?.studyId);
-
-  /** Site id -> "number · name (country)", for the sites the server lets this user see. */
-  protected readonly siteLabels = computed<Record<string, string>>(() =>
-    Object.fromEntries(
-      (this.sites.hasValue() ? this.sites.value() : []).map((site) => [
-        site.id,
-        `${site.number} · ${site.name} (${site.countryCode})`,
-      ]),
-    ),
-  );
+  protected readonly selection = inject(SiteDeskSelection);
 }

@@ -1,0 +1,121 @@
+import type { Data, Layout } from 'plotly.js-dist-min';
+
+import type { SessionCurves } from '@shared/contracts/sessions';
+
+type EffortCurve = SessionCurves['efforts'][number];
+
+/** What plotly draws for one chart, and which effort each trace belongs to (for clicks). */
+export interface CurveFigure {
+  readonly data: Data[];
+  readonly layout: Partial<Layout>;
+  /** Effort index of each trace, in trace order. */
+  readonly effortOfTrace: readonly number[];
+}
+
+/** Tidemark's own series colours: sea, shore, kelp, heather, slate, rust, dusk. */
+export const EFFORT_COLOURS = ['#006783', '#78592f', '#4f6b2d', '#8a3f5c', '#3d5a80', '#b0562b', '#5c4d9a'] as const;
+
+const FONT = { family: "'Merriweather Sans', system-ui, sans-serif", size: 12, color: '#171c1e' };
+const GRID_COLOUR = '#d4dbde';
+
+/** The colour of an effort, stable whichever effort is highlighted. */
+export function effortColour(position: number): string {
+  return EFFORT_COLOURS[position % EFFORT_COLOURS.length];
+}
+
+/**
+ * Efforts in drawing order with their colours: the highlighted one last, so it is drawn on top.
+ */
+function inDrawingOrder(curves: SessionCurves, highlighted: number | null) {
+  const withColour = curves.efforts.map((effort, position) => ({ effort, colour: effortColour(position) }));
+  return [
+    ...withColour.filter(({ effort }) => effort.index !== highlighted),
+    ...withColour.filter(({ effort }) => effort.index === highlighted),
+  ];
+}
+
+function lineStyle(colour: string, isHighlighted: boolean, anyHighlighted: boolean) {
+  return {
+    line: { color: colour, width: isHighlighted ? 3.5 : 1.25 },
+    opacity: isHighlighted || !anyHighlighted ? 1 : 0.4,
+  };
+}
+
+function baseLayout(xTitle: string, yTitle: string): Partial<Layout> {
+  return {
+    font: FONT,
+    margin: { l: 56, r: 16, t: 16, b: 48 },
+    paper_bgcolor: 'rgba(0,0,0,0)',
+    plot_bgcolor: 'rgba(0,0,0,0)',
+    showlegend: true,
+    legend: { orientation: 'h', y: -0.22 },
+    hovermode: 'closest',
+    // Keeps the reader's zoom when only the highlighted effort changes.
+    uirevision: 'efforts',
+    xaxis: { title: { text: xTitle }, gridcolor: GRID_COLOUR, zeroline: true, zerolinecolor: '#8b9294' },
+    yaxis: { title: { text: yTitle }, gridcolor: GRID_COLOUR, zeroline: true, zerolinecolor: '#8b9294' },
+  };
+}
+
+/** Volume against time for every effort, with the back-extrapolation of the highlighted one. */
+export function volumeTimeFigure(curves: SessionCurves, highlighted: number | null): CurveFigure {
+  const data: Data[] = [];
+  const effortOfTrace: number[] = [];
+  for (const { effort, colour } of inDrawingOrder(curves, highlighted)) {
+    const isHighlighted = effort.index === highlighted;
+    data.push({
+      type: 'scatter',
+      mode: 'lines',
+      name: effort.label,
+      x: effort.timeS,
+      y: effort.volumeL,
+      hovertemplate: `${effort.label}<br>%{x:.2f} s, %{y:.2f} L<extra></extra>`,
+      ...lineStyle(colour, isHighlighted, highlighted !== null),
+    });
+    effortOfTrace.push(effort.index);
+    if (isHighlighted && hasBackExtrapolation(effort)) {
+      data.push({
+        type: 'scatter',
+        mode: 'lines',
+        name: `Back-extrapolation, ${effort.label}`,
+        x: effort.backExtrapolation.timeS,
+        y: effort.backExtrapolation.volumeL,
+        hovertemplate: `Back-extrapolation<br>%{x:.2f} s, %{y:.2f} L<extra></extra>`,
+        line: { color: colour, width: 2, dash: 'dash' },
+      });
+      effortOfTrace.push(effort.index);
+    }
+  }
+  return { data, layout: baseLayout('Time (s)', 'Volume (L)'), effortOfTrace };
+}
+
+/**
+ * Flow against volume for every effort. The flow axis runs at 2 L/s to the length of 1 L, the
+ * display ratio of the ATS/ERS spirometry standards (Miller et al. 2005; Graham et al. 2019).
+ */
+export function flowVolumeFigure(curves: SessionCurves, highlighted: number | null): CurveFigure {
+  const data: Data[] = [];
+  const effortOfTrace: number[] = [];
+  for (const { effort, colour } of inDrawingOrder(curves, highlighted)) {
+    data.push({
+      type: 'scatter',
+      mode: 'lines',
+      name: effort.label,
+      x: effort.volumeL,
+      y: effort.flowLPerS,
+      hovertemplate: `${effort.label}<br>%{x:.2f} L, %{y:.2f} L/s<extra></extra>`,
+      ...lineStyle(colour, effort.index === highlighted, highlighted !== null),
+    });
+    effortOfTrace.push(effort.index);
+  }
+  const layout = baseLayout('Volume (L)', 'Flow (L/s)');
+  return {
+    data,
+    layout: { ...layout, yaxis: { ...layout.yaxis, scaleanchor: 'x', scaleratio: 0.5 } },
+    effortOfTrace,
+  };
+}
+
+function hasBackExtrapolation(effort: EffortCurve): boolean {
+  return effort.backExtrapolation.timeS.length > 1 && effort.backExtrapolation.volumeL.length > 1;
+}
