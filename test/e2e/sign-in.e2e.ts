@@ -2,9 +2,9 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from '@jest/globals';
 import type { BrowserContext, Page } from 'playwright-core';
-import { DEMO_PASSWORD, DEMO_USERS, type DemoUser } from '../../server/seed/demo-study.js';
+import { DEMO_USERS, type DemoUser } from '../../server/seed/demo-study.js';
 import { startTidemarkForTest } from '../support/tidemark-under-test.js';
-import { launchChromium, SCREENSHOT_DIR } from './browser.js';
+import { launchChromium, SCREENSHOT_DIR, signInInBrowser } from './browser.js';
 
 const WEB_DIR = path.resolve('dist/web/browser');
 
@@ -38,18 +38,8 @@ afterAll(async () => {
   await tidemark?.close();
 });
 
-async function signInThroughBrowser(context: BrowserContext, user: DemoUser): Promise<Page> {
-  await context.clearCookies();
-  const page = await context.newPage();
-  await page.goto(`${tidemark.url}/`);
-  await page.waitForURL(/\/sign-in/);
-  await page.getByRole('button', { name: /sign in/i }).or(page.getByRole('link', { name: /sign in/i })).first().click();
-  await page.waitForURL(/\/interaction\//);
-  await page.fill('#email', user.email);
-  await page.fill('#password', DEMO_PASSWORD);
-  await page.getByRole('button', { name: 'Sign in' }).click();
-  await page.waitForURL((url) => url.origin === new URL(tidemark.url).origin && !url.pathname.startsWith('/sign-in'));
-  return page;
+function signInThroughBrowser(context: BrowserContext, user: DemoUser): Promise<Page> {
+  return signInInBrowser(context, tidemark.url, user.email);
 }
 
 describe('signing in through the identity provider, in Chromium', () => {
