@@ -45,6 +45,11 @@ import { ProtocolService } from './protocols/protocol-service.js';
 import { ReplayRepository } from './replay/replay-repository.js';
 import { replayRoutes } from './replay/replay-routes.js';
 import { ReplayService } from './replay/replay-service.js';
+import { PeopleService } from './setup/people-service.js';
+import { setupRoutes } from './setup/setup-routes.js';
+import { SiteSetupService } from './setup/site-setup-service.js';
+import { StudySetupRepository } from './setup/study-setup-repository.js';
+import { StudySetupService } from './setup/study-setup-service.js';
 
 import { ReferenceSetRepository } from './reference-sets/reference-set-repository.js';
 import { referenceSetRoutes } from './reference-sets/reference-set-routes.js';
@@ -90,6 +95,10 @@ export function createApp(deps: AppDependencies): { app: Express; registry: ApiR
   const calibration = new CalibrationService(calibrationRepository, studyRepository, audit, clock);
   const ruleSets = new ProtocolService();
   const replays = new ReplayService(new ReplayRepository(db), studyRepository, ruleSets, audit, storage, config.uploads, clock, logger);
+  const setupRepository = new StudySetupRepository(db);
+  const studySetup = new StudySetupService(setupRepository, audit, clock);
+  const siteSetup = new SiteSetupService(setupRepository, audit, clock);
+  const people = new PeopleService(setupRepository, audit, messages, clock);
   const protocols = new Map<string, ResolvedProtocol>();
   const protocolFor = (ruleSetId: string): ResolvedProtocol => {
     let protocol = protocols.get(ruleSetId);
@@ -185,6 +194,7 @@ export function createApp(deps: AppDependencies): { app: Express; registry: ApiR
   app.use(referenceSetRoutes(registry, referenceSets));
   app.use(protocolRoutes(registry, ruleSets));
   app.use(replayRoutes(registry, replays));
+  app.use(setupRoutes(registry, { studies: studySetup, sites: siteSetup, people }));
   app.use(['/api', '/auth'], apiNotFound);
 
   serveWebClient(app, config.webDir);

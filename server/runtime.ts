@@ -14,6 +14,7 @@ import { Mailer } from './mail/mailer.js';
 import { seedDemoSessions, seedDemoStudy } from './seed/demo-seed.js';
 import { DEMO_PASSWORD, DEMO_USERS } from './seed/demo-study.js';
 import { ObjectStorage } from './storage/object-storage.js';
+import { UserRepository } from './users/user-repository.js';
 import type { UploadFaultHooks } from './uploads/upload-service.js';
 
 /** A running Tidemark: the app on loopback plus whichever local fakes the configuration asked for. */
@@ -41,6 +42,7 @@ export async function startTidemark(
   if (config.port === 0 || !process.env['PUBLIC_URL']) config.publicUrl = `http://${config.host}:${port}`;
 
   const fakes: RunningTidemark['fakes'] = {};
+  let findActiveUser: ((email: string) => { email: string; name: string } | undefined) | undefined;
   const closers: (() => Promise<void> | void)[] = [
     () =>
       new Promise<void>((resolve) => {
@@ -62,6 +64,11 @@ export async function startTidemark(
       fakes.identity = await startFakeIdentityProvider({
         port: config.identity.fakePort,
         accounts: DEMO_USERS.map((user) => ({ email: user.email, name: user.name, password: DEMO_PASSWORD })),
+        // People invited later sign in at the local fake with the demo password.
+        lookupAccount: (email) => {
+          const user = findActiveUser?.(email);
+          return user ? { email: user.email, name: user.name, password: DEMO_PASSWORD } : undefined;
+        },
         client: {
           clientId: config.identity.clientId,
           clientSecret: config.identity.clientSecret,
@@ -78,6 +85,11 @@ export async function startTidemark(
     }
 
     const db = openDatabase(config.databaseFile);
+    const userRepository = new UserRepository(db);
+    findActiveUser = (email) => {
+      const user = userRepository.findByEmail(email);
+      return user?.active ? user : undefined;
+    };
     closers.push(() => {
       db.$client.close();
     });

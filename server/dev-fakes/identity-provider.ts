@@ -43,12 +43,15 @@ ${error ? `<p class="error" role="alert">${escapeHtml(error)}</p>` : ''}
 export async function startFakeIdentityProvider(options: {
   port: number;
   accounts: readonly FakeAccount[];
+  /** Further accounts looked up at sign-in (people invited after start), with the same local password. */
+  lookupAccount?: (email: string) => FakeAccount | undefined;
   client: { clientId: string; clientSecret: string; redirectUris: string[] };
 }): Promise<FakeIdentityProvider> {
   const server = http.createServer();
   await new Promise<void>((resolve) => server.listen(options.port, '127.0.0.1', resolve));
   const issuer = `http://127.0.0.1:${(server.address() as AddressInfo).port}`;
-  const byEmail = new Map(options.accounts.map((account) => [account.email.toLowerCase(), account]));
+  const seeded = new Map(options.accounts.map((account) => [account.email.toLowerCase(), account]));
+  const byEmail = { get: (email: string) => seeded.get(email) ?? options.lookupAccount?.(email) };
   const { privateKey } = generateKeyPairSync('rsa', { modulusLength: 2048 });
 
   const provider = new Provider(issuer, {

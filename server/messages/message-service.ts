@@ -12,6 +12,13 @@ export interface Notice {
   readonly link?: string;
 }
 
+/** A message row written and not yet sent. */
+export interface PendingMessage {
+  readonly id: string;
+  readonly to: string;
+  readonly notice: Notice;
+}
+
 /**
  * Tells users things by e-mail and lists the same message in the app. Sending happens after
  * the request has its answer: a slow or absent mail relay never holds up or fails a write.
@@ -29,8 +36,17 @@ export class MessageService {
   ) {}
 
   notify(userId: string, notice: Notice): void {
+    const pending = this.enqueue(userId, notice);
+    if (pending) this.deliver(pending);
+  }
+
+  /**
+   * Writes the message row only, so that a caller can do it inside its own transaction (one
+   * commit instead of two); {@link deliver} sends it once that transaction has committed.
+   */
+  enqueue(userId: string, notice: Notice): PendingMessage | undefined {
     const user = this.users.findById(userId);
-    if (!user) return;
+    if (!user) return undefined;
     const id = randomUUID();
     this.repository.insert({
       id,
@@ -43,9 +59,14 @@ export class MessageService {
       delivery: 'pending',
       failure: null,
     });
+    return { id, to: user.email, notice };
+  }
+
+  /** Sends a message written by {@link enqueue}, in the background; the outcome is recorded on its row. */
+  deliver({ id, to, notice }: PendingMessage): void {
     const text = notice.link ? `${notice.body}\n\nOpen it in Tidemark: ${this.publicUrl()}${notice.link}\n` : `${notice.body}\n`;
     const sending = this.mailer
-      .send({ to: user.email, subject: notice.subject, text })
+      .send({ to, subject: notice.subject, text })
       .then(() => this.repository.markDelivery(id, 'sent', null))
       .catch((error: unknown) => {
         this.logger.warn({ err: error, messageId: id }, 'e-mail not delivered');

@@ -9,7 +9,7 @@ import type { CalibrationRepository } from '../calibration/calibration-repositor
 import type { AppConfig } from '../config.js';
 import { AppError } from '../http/app-error.js';
 import type { SiteScope } from '../http/access.js';
-import type { MessageService } from '../messages/message-service.js';
+import type { MessageService, PendingMessage } from '../messages/message-service.js';
 import type { SessionRepository, SessionRow, UploadRow } from '../sessions/session-repository.js';
 import type { SessionService } from '../sessions/session-service.js';
 import { describeSession, toUpload } from '../sessions/session-views.js';
@@ -138,10 +138,11 @@ export class UploadService {
         newValue: { outcome: outcome.outcome, errors: outcome.outcome === 'rejected' ? outcome.reasons : [] },
       });
       this.applyOutcome(record, current, { ...upload, ...changes }, outcome);
-      return { ...upload, ...changes };
+      const row = { ...upload, ...changes };
+      return { row, receipt: this.enqueueReceipt(actor.userId, session, row) };
     });
-    this.sendReceipt(actor.userId, session, updated);
-    return this.answer(updated);
+    if (updated.receipt) this.messages.deliver(updated.receipt);
+    return this.answer(updated.row);
   }
 
   /** Plot series of the current file's efforts, computed from the stored original. */
@@ -297,12 +298,11 @@ export class UploadService {
           detectedFormat: row.detectedFormat,
         },
       });
-      if (options.recovered && finalOutcome !== outcome) return row;
-      this.applyOutcome(record, current, row, finalOutcome);
-      return row;
+      if (!(options.recovered && finalOutcome !== outcome)) this.applyOutcome(record, current, row, finalOutcome);
+      return { row, receipt: this.enqueueReceipt(file.uploadedBy, session, row) };
     });
-    this.sendReceipt(file.uploadedBy, session, upload);
-    return upload;
+    if (upload.receipt) this.messages.deliver(upload.receipt);
+    return upload.row;
   }
 
   /** Writes what the check found: efforts and the checked status, or the rejection with its reasons. */
@@ -478,7 +478,8 @@ export class UploadService {
     );
   }
 
-  private sendReceipt(userId: string, session: SessionRow, upload: UploadRow): void {
+  /** The receipt e-mail, written in the upload's own transaction and sent after it commits. */
+  private enqueueReceipt(userId: string, session: SessionRow, upload: UploadRow): PendingMessage | undefined {
     const codes = this.sessions.sessionWithCodes(session.id);
     const what = codes ? describeSession(codes) : `session ${session.id}`;
     const reasons = JSON.parse(upload.errors) as string[];
@@ -486,7 +487,7 @@ export class UploadService {
       upload.outcome === 'checked'
         ? 'passed the automated checks and is queued for the over-read.'
         : `could not be used. It is kept, and can be processed again after a fix. Reasons:\n- ${reasons.join('\n- ')}`;
-    this.messages.notify(userId, {
+    return this.messages.enqueue(userId, {
       subject: `Tidemark receipt: ${upload.originalName} ${upload.outcome === 'checked' ? 'checked' : 'rejected'}`,
       body:
         `Tidemark received ${upload.originalName} (${upload.sizeBytes} bytes, SHA-256 ${upload.sha256}) at ${upload.receivedAt} UTC ` +
