@@ -125,20 +125,7 @@ export class SessionRepository {
         .get()?.value ?? 0;
     const sortColumn = SORT_COLUMNS[query.sort];
     const order = query.direction === 'asc' ? asc(sortColumn) : desc(sortColumn);
-    const rows = this.db
-      .select({
-        session: testSessions,
-        siteNumber: sites.number,
-        subjectCode: subjects.code,
-        visitCode: visits.code,
-        timepointCode: timepoints.code,
-        effortCount: this.effortCountColumn(),
-      })
-      .from(testSessions)
-      .innerJoin(sites, eq(sites.id, testSessions.siteId))
-      .innerJoin(subjects, eq(subjects.id, testSessions.subjectId))
-      .innerJoin(visits, eq(visits.id, testSessions.visitId))
-      .innerJoin(timepoints, eq(timepoints.id, testSessions.timepointId))
+    const rows = this.selectWithCodes()
       .where(where)
       .orderBy(order, desc(testSessions.id))
       .limit(query.pageSize)
@@ -149,6 +136,11 @@ export class SessionRepository {
 
   /** One session with its codes, or undefined. */
   sessionWithCodes(sessionId: string): SessionListRow | undefined {
+    return this.selectWithCodes().where(eq(testSessions.id, sessionId)).get();
+  }
+
+  /** Sessions joined to the site number, subject, visit and timepoint codes people read. */
+  private selectWithCodes() {
     return this.db
       .select({
         session: testSessions,
@@ -162,9 +154,7 @@ export class SessionRepository {
       .innerJoin(sites, eq(sites.id, testSessions.siteId))
       .innerJoin(subjects, eq(subjects.id, testSessions.subjectId))
       .innerJoin(visits, eq(visits.id, testSessions.visitId))
-      .innerJoin(timepoints, eq(timepoints.id, testSessions.timepointId))
-      .where(eq(testSessions.id, sessionId))
-      .get();
+      .innerJoin(timepoints, eq(timepoints.id, testSessions.timepointId));
   }
 
   private effortCountColumn() {
