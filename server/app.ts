@@ -24,6 +24,7 @@ import { HealthService } from './health/health-service.js';
 import { ApiRouteRegistry } from './http/api-route.js';
 import { authenticate, requireCsrfToken } from './http/authenticate.js';
 import { apiNotFound, errorHandler } from './http/error-handler.js';
+import { uploadRateLimit } from './http/upload-rate-limit.js';
 import type { Mailer } from './mail/mailer.js';
 import { MessageRepository } from './messages/message-repository.js';
 import { messageRoutes } from './messages/message-routes.js';
@@ -51,6 +52,41 @@ import { SiteSetupService } from './setup/site-setup-service.js';
 import { StudySetupRepository } from './setup/study-setup-repository.js';
 import { StudySetupService } from './setup/study-setup-service.js';
 
+import { FeedbackRepository } from './feedback/feedback-repository.js';
+import { feedbackRoutes } from './feedback/feedback-routes.js';
+import { FeedbackService } from './feedback/feedback-service.js';
+import { QueryRepository } from './queries/query-repository.js';
+import { queryRoutes } from './queries/query-routes.js';
+import { QueryService } from './queries/query-service.js';
+import { SiteContactRepository } from './queries/site-contact-repository.js';
+import { AdjudicationRepository } from './reading/adjudication-repository.js';
+// ── dual reading ──
+import { adjudicationRoutes } from './reading/adjudication-routes.js';
+import { AdjudicationService } from './reading/adjudication-service.js';
+import { agreementRoutes } from './reading/agreement-routes.js';
+// ── end dual reading ──
+import { QueueTokens } from './reading/queue-token.js';
+import { finaliseAfterSignedRead } from './reading/read-comparison.js';
+import { ReadQueueService } from './reading/read-queue-service.js';
+import { ReadingRepository } from './reading/reading-repository.js';
+import { readingRoutes } from './reading/reading-routes.js';
+import { ReadingService } from './reading/reading-service.js';
+import { SignatureRepository } from './signatures/signature-repository.js';
+import { SignatureService } from './signatures/signature-service.js';
+// ── oversight (monitor's view) ──
+import { AuditTrailQueryRepository } from './oversight/audit-trail-query-repository.js';
+import { auditTrailQueryRoutes } from './oversight/audit-trail-query-routes.js';
+import { AuditTrailQueryService } from './oversight/audit-trail-query-service.js';
+import { PerformanceRepository } from './oversight/performance-repository.js';
+import { performanceRoutes } from './oversight/performance-routes.js';
+import { PerformanceService } from './oversight/performance-service.js';
+// ── end oversight ──
+// ── locks ──
+import { LockGuard } from './locks/lock-guard.js';
+import { LockRepository } from './locks/lock-repository.js';
+import { lockRoutes } from './locks/lock-routes.js';
+import { LockService } from './locks/lock-service.js';
+// ── end locks ──
 import { ReferenceSetRepository } from './reference-sets/reference-set-repository.js';
 import { referenceSetRoutes } from './reference-sets/reference-set-routes.js';
 import { ReferenceSetService } from './reference-sets/reference-set-service.js';
@@ -77,6 +113,10 @@ export interface AppServices {
   readonly sessions: SessionService;
   readonly messages: MessageService;
   readonly referenceSets: ReferenceSetService;
+  readonly signatures: SignatureService;
+  readonly reading: ReadingService;
+  readonly queries: QueryService;
+  readonly feedback: FeedbackService;
 }
 
 /** Wires the Express app; listening is the caller's business. */
@@ -89,10 +129,12 @@ export function createApp(deps: AppDependencies): { app: Express; registry: ApiR
   const studies = new StudyService(studyRepository);
   const audit = new AuditTrail(new AuditRepository(db), clock);
   const sessionRepository = new SessionRepository(db);
-  const sessions = new SessionService(sessionRepository, studyRepository, audit, clock);
+  const lockRepository = new LockRepository(db); // locks
+  const lockGuard = new LockGuard(lockRepository); // locks
+  const sessions = new SessionService(sessionRepository, studyRepository, audit, clock, lockGuard);
   const messages = new MessageService(new MessageRepository(db), users, mailer, () => config.publicUrl, clock, logger);
   const calibrationRepository = new CalibrationRepository(db);
-  const calibration = new CalibrationService(calibrationRepository, studyRepository, audit, clock);
+  const calibration = new CalibrationService(calibrationRepository, studyRepository, audit, clock, lockGuard);
   const ruleSets = new ProtocolService();
   const replays = new ReplayService(new ReplayRepository(db), studyRepository, ruleSets, audit, storage, config.uploads, clock, logger);
   const setupRepository = new StudySetupRepository(db);
@@ -122,6 +164,36 @@ export function createApp(deps: AppDependencies): { app: Express; registry: ApiR
     logger,
     deps.uploadFaults,
   );
+  const siteContacts = new SiteContactRepository(db);
+  const queries = new QueryService(new QueryRepository(db), siteContacts, sessionRepository, sessions, audit, messages, clock);
+  const feedback = new FeedbackService(
+    new FeedbackRepository(db),
+    sessionRepository,
+    sessions,
+    studyRepository,
+    uploads,
+    siteContacts,
+    messages,
+    protocolFor,
+    logger,
+    // Called per request, after `reading` below exists: the signature's content check belongs to the reads.
+    { signatureOf: (readId) => reading.signatureOf(readId) },
+  );
+  const signatures = new SignatureService(new SignatureRepository(db), clock);
+  const readingRepository = new ReadingRepository(db);
+  const readFinalisation = { repository: new AdjudicationRepository(db), audit, clock };
+  const reading = new ReadingService(readingRepository, sessionRepository, studyRepository, uploads, signatures, audit, protocolFor, clock, logger, {
+    onFinal: (sessionId) => feedback.onFinal(sessionId),
+    finaliseAfterSignedRead: (readId) => void finaliseAfterSignedRead(readFinalisation, readId),
+  });
+  const queueTokens = new QueueTokens(config.dataDir);
+  const readQueue = new ReadQueueService(readingRepository, sessionRepository, studyRepository, reading, queueTokens, audit, clock);
+  // ── dual reading ──
+  const adjudication = new AdjudicationService(readFinalisation.repository, sessionRepository, studyRepository, reading, queueTokens, audit, clock);
+  // ── end dual reading ──
+  // ── locks ──
+  const locks = new LockService(lockRepository, signatures, (scope) => queries.openQueryCount(scope), audit, clock);
+  // ── end locks ──
   const health = new HealthService(
     {
       database: () => pingDatabase(db),
@@ -132,6 +204,10 @@ export function createApp(deps: AppDependencies): { app: Express; registry: ApiR
     APP_VERSION,
   );
   const referenceSets = new ReferenceSetService(new ReferenceSetRepository(db), audit, storage, clock, logger);
+  // ── oversight (monitor's view) ──
+  const auditTrailQuery = new AuditTrailQueryService(new AuditTrailQueryRepository(db), studyRepository, audit, clock);
+  const performance = new PerformanceService(new PerformanceRepository(db), studyRepository, clock);
+  // ── end oversight ──
   const registry = new ApiRouteRegistry();
 
   const app = express();
@@ -174,6 +250,8 @@ export function createApp(deps: AppDependencies): { app: Express; registry: ApiR
   app.use('/auth/login', rateLimit({ windowMs: 60_000, limit: 30, standardHeaders: 'draft-8', legacyHeaders: false }));
   app.use(authenticate(auth));
   app.use(requireCsrfToken);
+  // Upload rate limit (TIDEMARK_UPLOAD_RATE_PER_MINUTE): after authentication, so it counts per user, and before multer.
+  app.post('/api/studies/:studyId/sessions/:sessionId/uploads', uploadRateLimit(config.uploads.ratePerMinute));
 
   app.use(
     authRoutes({
@@ -195,11 +273,19 @@ export function createApp(deps: AppDependencies): { app: Express; registry: ApiR
   app.use(protocolRoutes(registry, ruleSets));
   app.use(replayRoutes(registry, replays));
   app.use(setupRoutes(registry, { studies: studySetup, sites: siteSetup, people }));
+  app.use(queryRoutes(registry, queries));
+  app.use(feedbackRoutes(registry, feedback));
+  app.use(readingRoutes(registry, readQueue, reading));
+  app.use(adjudicationRoutes(registry, adjudication)); // dual reading
+  app.use(agreementRoutes(registry, adjudication)); // dual reading
+  app.use(auditTrailQueryRoutes(registry, auditTrailQuery)); // oversight
+  app.use(performanceRoutes(registry, performance)); // oversight
+  app.use(lockRoutes(registry, locks)); // locks
   app.use(['/api', '/auth'], apiNotFound);
 
   serveWebClient(app, config.webDir);
   app.use(errorHandler);
-  return { app, registry, services: { audit, uploads, sessions, messages, referenceSets } };
+  return { app, registry, services: { audit, uploads, sessions, messages, referenceSets, queries, feedback, signatures, reading } };
 }
 
 /** Serves the built Angular app, with every other GET falling back to its index page. */

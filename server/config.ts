@@ -38,6 +38,8 @@ const environmentSchema = z.object({
   TIDEMARK_FAKE_SMTP_PORT: z.coerce.number().int().min(0).default(4325),
 
   TIDEMARK_UPLOAD_MAX_MB: z.coerce.number().positive().max(1024).default(25),
+  /** Session-file uploads one user (or one address, for a caller not signed in) may send per minute. */
+  TIDEMARK_UPLOAD_RATE_PER_MINUTE: z.coerce.number().int().positive().default(120),
 
   TIDEMARK_SESSION_IDLE_MINUTES: z.coerce.number().positive().default(30),
   TIDEMARK_SESSION_MAX_HOURS: z.coerce.number().positive().default(12),
@@ -83,6 +85,8 @@ export interface AppConfig {
     readonly maxExpandedBytes: number;
     readonly maxZipEntries: number;
     readonly maxCompressionRatio: number;
+    /** Uploads accepted per user (or per address) per minute; more answer 429. */
+    readonly ratePerMinute: number;
   };
   readonly session: { readonly idleMinutes: number; readonly maxHours: number; readonly secureCookies: boolean };
 }
@@ -130,6 +134,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env): AppConfig {
       maxExpandedBytes: Math.round(e.TIDEMARK_UPLOAD_MAX_MB * 1024 * 1024 * 8),
       maxZipEntries: 1000,
       maxCompressionRatio: 100,
+      ratePerMinute: e.TIDEMARK_UPLOAD_RATE_PER_MINUTE,
     },
     session: {
       idleMinutes: e.TIDEMARK_SESSION_IDLE_MINUTES,

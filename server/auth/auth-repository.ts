@@ -39,6 +39,11 @@ export class AuthRepository {
     this.db.update(authSessions).set({ lastSeenAt }).where(eq(authSessions.idHash, idHash)).run();
   }
 
+  /** Records a fresh password entry at the identity provider for an open session. */
+  updateAuthTime(idHash: string, authTime: string): void {
+    this.db.update(authSessions).set({ authTime }).where(and(eq(authSessions.idHash, idHash), isNull(authSessions.endedAt))).run();
+  }
+
   endSession(idHash: string, endedAt: string): void {
     this.db.update(authSessions).set({ endedAt }).where(eq(authSessions.idHash, idHash)).run();
   }

@@ -15,10 +15,19 @@ import type { OidcRelyingParty } from './oidc-relying-party.js';
 const LOGIN_COOKIE = 'tidemark_login';
 /** Set at sign-out so the next sign-in in this browser asks for the password again, even if the provider's own session lives on. */
 const SIGNED_OUT_COOKIE = 'tidemark_signed_out';
+/** Holds the state of a re-authentication in flight, so the callback refreshes the session instead of opening one. */
+const REAUTH_COOKIE = 'tidemark_reauth';
 
 /** Only same-site paths, so a crafted link cannot bounce a fresh session to another host. */
 function safeReturnPath(value: unknown): string {
   return typeof value === 'string' && /^\/(?![/\\])[^\\]*$/.test(value) ? value : '/';
+}
+
+/** The return path with `reauthentication=<outcome>` added, so the page that asked can say what happened. */
+function withReauthenticationOutcome(returnTo: string, outcome: string): string {
+  const url = new URL(returnTo, 'http://return.invalid');
+  url.searchParams.set('reauthentication', outcome);
+  return `${url.pathname}${url.search}${url.hash}`;
 }
 
 export function authRoutes(deps: {
@@ -57,6 +66,34 @@ export function authRoutes(deps: {
 
   registry.add(router, {
     method: 'get',
+    path: '/auth/reauthenticate',
+    tag: 'auth',
+    summary:
+      'Confirm your identity before signing (21 CFR 11.200): a forced fresh login at the identity provider; ' +
+      "the callback refreshes this session's auth time and returns to returnTo (redirect)",
+    access: { kind: 'signed-in' },
+    query: z.object({ returnTo: z.string().optional() }),
+    successStatus: 303,
+    responseDescription: 'Redirect to the identity provider, which asks for the password again',
+    handler: async ({ res, query, principal }) => {
+      if (!principal?.session) {
+        throw AppError.forbidden('Only a browser session can confirm identity for signing; API tokens cannot sign.', 'session-required');
+      }
+      const signIn = await relyingParty.beginSignIn({ forceLogin: true });
+      auth.recordLoginAttempt({
+        state: signIn.state,
+        codeVerifier: signIn.codeVerifier,
+        nonce: signIn.nonce,
+        returnTo: safeReturnPath(query.returnTo),
+      });
+      res.cookie(LOGIN_COOKIE, signIn.state, { ...cookieBase, maxAge: 10 * 60 * 1000 });
+      res.cookie(REAUTH_COOKIE, signIn.state, { ...cookieBase, maxAge: 10 * 60 * 1000 });
+      res.redirect(303, signIn.url);
+    },
+  });
+
+  registry.add(router, {
+    method: 'get',
     path: '/auth/callback',
     tag: 'auth',
     summary: 'Return from the identity provider; opens a session (redirect)',
@@ -70,7 +107,28 @@ export function authRoutes(deps: {
         req.log?.info({ code }, message);
         res.redirect(303, `/sign-in?error=${encodeURIComponent(code)}`);
       };
+      const reauthenticating =
+        query.state !== undefined && req.cookies?.[REAUTH_COOKIE] === query.state && req.principal?.session !== undefined;
       res.clearCookie(LOGIN_COOKIE, cookieBase);
+      res.clearCookie(REAUTH_COOKIE, cookieBase);
+      if (reauthenticating) {
+        // The user stays signed in whatever happens: every outcome goes back to the page that asked.
+        let returnTo = '/';
+        try {
+          const attempt = auth.takeLoginAttempt(query.state!);
+          returnTo = attempt.returnTo;
+          if (query.error) throw AppError.unauthenticated(`The identity provider did not confirm you (${query.error}).`, 'idp-refused');
+          const result = await relyingParty.completeSignIn(new URL(req.originalUrl, publicUrl), attempt);
+          if (!result.email) throw AppError.unauthenticated('The identity provider did not share your e-mail address.', 'no-email');
+          auth.refreshAuthTime(req.principal!, result.email, result.authTime);
+          return res.redirect(303, withReauthenticationOutcome(returnTo, 'confirmed'));
+        } catch (error) {
+          const code = error instanceof AppError ? error.code : 'reauthentication-failed';
+          if (error instanceof AppError) req.log?.info({ code }, error.message);
+          else req.log?.warn({ err: error }, 're-authentication failed');
+          return res.redirect(303, withReauthenticationOutcome(returnTo, code));
+        }
+      }
       if (query.error) return toSignIn('idp-refused', `The identity provider did not sign you in (${query.error}).`);
       if (!query.state || query.state !== req.cookies?.[LOGIN_COOKIE]) {
         return toSignIn('login-mismatch', 'This sign-in did not start in this browser. Start signing in again.');

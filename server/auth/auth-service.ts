@@ -86,6 +86,24 @@ export class AuthService {
     return { ...principal, session: { idHash, csrfToken: session.csrfToken, authTime: session.authTime } };
   }
 
+  /**
+   * After a forced login at the identity provider (re-authentication before signing): the
+   * session keeps its id and CSRF token and takes the new auth time. Refused when someone else
+   * logged in at the provider, so one person's password never signs for another's session.
+   */
+  refreshAuthTime(principal: Principal, email: string, authTime: Date): void {
+    if (!principal.session) {
+      throw AppError.forbidden('Only a browser session can confirm identity for signing.', 'session-required');
+    }
+    if (email.toLowerCase() !== principal.user.email.toLowerCase()) {
+      throw AppError.forbidden(
+        `You confirmed your identity as ${email}, but this session belongs to ${principal.user.email}; nothing was changed.`,
+        'reauthentication-mismatch',
+      );
+    }
+    this.repository.updateAuthTime(principal.session.idHash, authTime.toISOString());
+  }
+
   endSession(idHash: string): void {
     this.repository.endSession(idHash, this.clock().toISOString());
   }

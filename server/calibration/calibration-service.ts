@@ -4,6 +4,7 @@ import type { CalibrationCheckRecord, calibrationCheckEntrySchema } from '../../
 import { checkCalibration } from '../../shared/spirometry/interpretation/calibration-check.js';
 import type { AuditActor, AuditTrail } from '../audit/audit-trail.js';
 import { AppError } from '../http/app-error.js';
+import type { LockGuard } from '../locks/lock-guard.js';
 import type { StudyRepository } from '../studies/study-repository.js';
 import type { CalibrationCheckRow, CalibrationRepository } from './calibration-repository.js';
 
@@ -14,6 +15,8 @@ export class CalibrationService {
     private readonly studies: StudyRepository,
     private readonly audit: AuditTrail,
     private readonly clock: () => Date,
+    /** Calibration checks support the sessions of their site: a study or site lock freezes them too. */
+    private readonly locks: LockGuard,
   ) {}
 
   list(studyId: string, siteId: string): CalibrationCheckRecord[] {
@@ -22,7 +25,8 @@ export class CalibrationService {
   }
 
   add(actor: AuditActor, studyId: string, siteId: string, entry: z.infer<typeof calibrationCheckEntrySchema>): CalibrationCheckRecord {
-    this.requireSite(studyId, siteId);
+    const site = this.requireSite(studyId, siteId);
+    this.locks.assertUnlocked({ studyId, siteId }, `site ${site.number}`);
     const checkedAt = new Date(entry.checkedAt);
     if (checkedAt.getTime() > this.clock().getTime() + 5 * 60_000) {
       throw new AppError(422, 'checked-in-future', `The check time ${entry.checkedAt} is in the future.`);
@@ -50,8 +54,10 @@ export class CalibrationService {
     return toRecord(row);
   }
 
-  private requireSite(studyId: string, siteId: string): void {
-    if (!this.studies.findSite(studyId, siteId)) throw AppError.notFound('There is no such site in this study.');
+  private requireSite(studyId: string, siteId: string) {
+    const site = this.studies.findSite(studyId, siteId);
+    if (!site) throw AppError.notFound('There is no such site in this study.');
+    return site;
   }
 }
 

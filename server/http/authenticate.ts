@@ -12,7 +12,7 @@ const SAFE_METHODS = new Set(['GET', 'HEAD', 'OPTIONS']);
  * and each route's access rule decides.
  */
 export function authenticate(auth: AuthService): RequestHandler {
-  return (req, _res, next) => {
+  return (req, res, next) => {
     const header = req.headers.authorization;
     if (header !== undefined) {
       const match = /^Bearer\s+(\S+)$/i.exec(header);
@@ -22,7 +22,14 @@ export function authenticate(auth: AuthService): RequestHandler {
     }
     const cookieValue: unknown = req.cookies?.[SESSION_COOKIE];
     if (typeof cookieValue === 'string' && cookieValue !== '') {
-      req.principal = auth.resolveSession(cookieValue);
+      try {
+        req.principal = auth.resolveSession(cookieValue);
+      } catch (error) {
+        // A dead cookie must not lock the browser out: the 401 deletes it, and sign-in itself goes on without it.
+        res.clearCookie(SESSION_COOKIE, { path: '/', httpOnly: true, sameSite: 'lax' });
+        if (req.path.startsWith('/auth/')) return next();
+        throw error;
+      }
     }
     next();
   };

@@ -11,6 +11,7 @@ import type {
 import type { AuditActor, AuditTrail } from '../audit/audit-trail.js';
 import { AppError } from '../http/app-error.js';
 import { siteInScope, type SiteScope } from '../http/access.js';
+import type { LockGuard } from '../locks/lock-guard.js';
 import type { StudyRepository } from '../studies/study-repository.js';
 import type { SessionRepository, SessionRow } from './session-repository.js';
 import { describeSession, toSessionDetail, toSessionSummary } from './session-views.js';
@@ -25,6 +26,8 @@ export class SessionService {
     private readonly studies: StudyRepository,
     private readonly audit: AuditTrail,
     private readonly clock: () => Date,
+    /** Refuses new subjects and sessions inside a locked study, site, subject or visit. */
+    private readonly locks: LockGuard,
   ) {}
 
   schedule(studyId: string): Schedule {
@@ -51,7 +54,8 @@ export class SessionService {
   }
 
   enrolSubject(actor: AuditActor, studyId: string, siteId: string, code: string): Subject {
-    this.requireSite(studyId, siteId);
+    const site = this.requireSite(studyId, siteId);
+    this.locks.assertUnlocked({ studyId, siteId }, `site ${site.number}`);
     const existing = this.sessions.findSubject(studyId, code);
     if (existing) {
       throw AppError.conflict(`Subject code ${code} is already enrolled in this study.`, undefined, 'subject-exists');
@@ -84,6 +88,10 @@ export class SessionService {
         `Visit ${input.visitCode} is not in this study's schedule; the visits are ${schedule.map((v) => v.code).join(', ')}.`,
       );
     }
+    this.locks.assertUnlocked(
+      { studyId, siteId, subjectId: subject.id, visitId: visit.id },
+      `subject ${input.subjectCode} at visit ${input.visitCode}`,
+    );
     const timepointList = this.sessions.timepointsOf(studyId);
     const timepoint = timepointList.find((candidate) => candidate.code === input.timepointCode);
     if (!timepoint) {

@@ -56,12 +56,13 @@ export function uploadRoutes(registry: ApiRouteRegistry, uploads: UploadService,
     responseDescription: 'The original bytes, with the SHA-256 in the x-content-sha256 header',
     handler: async ({ params, siteScope, res }) => {
       const { upload, bytes } = await uploads.original(params.studyId, params.sessionId, params.uploadId, siteScope);
+      // attachment() sets a type from the file name; the original is always served as opaque bytes.
       res
         .status(200)
+        .attachment(upload.originalName)
         .type('application/octet-stream')
         .setHeader('x-content-sha256', upload.sha256)
         .setHeader('x-content-type-options', 'nosniff')
-        .attachment(upload.originalName)
         .send(bytes);
     },
   });

@@ -205,6 +205,8 @@ export const siteFeedbackSchema = z.object({
   releasedAt: z.string(),
   result: readResultSchema,
   feedbackText: z.string(),
+  /** Plain words for the whole session (repeatability, endpoint), beside the reader's own text. */
+  sessionCoaching: z.array(z.string()),
   efforts: z.array(
     z.object({
       index: z.number().int(),

@@ -3,7 +3,7 @@
  * rule with its source and how sure we are of it, so that a corrected reading of
  * the standard is a data change (a new rule-set version), not a code change.
  */
-import { z } from 'zod';
+import * as z from 'zod';
 import { BRONCHODILATOR_METHODS, type BronchodilatorMethod } from './interpretation/bronchodilator-response.js';
 import type { EngineParameters, FindingCode, Grade } from './model.js';
 

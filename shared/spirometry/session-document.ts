@@ -1,4 +1,4 @@
-import { z } from 'zod';
+import * as z from 'zod';
 import { type Recording, SpirometryInputError } from './model.js';
 import { toFloat64Array } from './signal.js';
 

@@ -21,6 +21,7 @@ import {
 } from '../../shared/spirometry/session-document.js';
 import { generateEffort, generateSession, type EffortSpec } from '../../shared/spirometry/synthetic/curve-generator.js';
 import { ingestBenchmarkRows } from './ingest-bench.js';
+import { auditChainBenchmarkRows } from './audit-chain-bench.js';
 
 setFlagsFromString('--expose-gc');
 const collectGarbage = runInNewContext('gc') as () => void;
@@ -185,6 +186,7 @@ rows.push(['heap after 1k efforts (100 Hz, after GC)', mib(heap1k), 'flat', `${n
 rows.push(['heap after 10k more efforts (100 Hz, after GC)', mib(heap10k), 'flat', `${number(heap10k / heap1k, 2)} (baseline: heap after 1k)`]);
 
 rows.push(...(await ingestBenchmarkRows(number)));
+rows.push(...(await auditChainBenchmarkRows(number)));
 
 const table = [
   '| figure | value | goal | ratio to baseline |',

@@ -3,6 +3,7 @@ import { Injectable, inject } from '@angular/core';
 import { filter, map, type Observable } from 'rxjs';
 import * as z from 'zod';
 
+import { querySchema, siteFeedbackSchema, type Query, type SiteFeedback } from '@shared/contracts/reading';
 import { siteSchema, type Site } from '@shared/contracts/studies';
 import {
   calibrationCheckRecordSchema,
@@ -28,6 +29,7 @@ import { ApiError } from '../core/http/api-error';
 const siteListSchema = z.array(siteSchema);
 const subjectListSchema = z.array(subjectSchema);
 const calibrationListSchema = z.array(calibrationCheckRecordSchema);
+const queryListSchema = z.array(querySchema);
 
 /** Body of a calibration check the coordinator enters by hand. */
 export interface CalibrationCheckEntry {
@@ -171,6 +173,43 @@ export class SiteDeskApi {
     return this.http
       .post<unknown>(siteUrl(studyId, siteId, 'calibration-checks'), entry)
       .pipe(map((body) => calibrationCheckRecordSchema.parse(body)));
+  }
+
+  /** The over-read feedback of a session; ask only once the session is final (404 before). */
+  sessionFeedback(studyId: () => string | undefined, sessionId: () => string | undefined): HttpResourceRef<SiteFeedback | undefined> {
+    return httpResource(() => whenKnown([studyId(), sessionId()], (study, session) => sessionUrl(study, session, '/feedback')), {
+      parse: (body) => siteFeedbackSchema.parse(body),
+    });
+  }
+
+  /** Link to the feedback as a PDF report; the browser downloads it with the session cookie. */
+  feedbackPdfUrl(studyId: string, sessionId: string): string {
+    return sessionUrl(studyId, sessionId, '/feedback.pdf');
+  }
+
+  /** Queries on one session with their threads; the reader is named only as "Over-reader". */
+  sessionQueries(studyId: () => string | undefined, sessionId: () => string | undefined): HttpResourceRef<Query[] | undefined> {
+    return httpResource(() => whenKnown([studyId(), sessionId()], (study, session) => sessionUrl(study, session, '/queries')), {
+      parse: (body) => queryListSchema.parse(body),
+    });
+  }
+
+  /** Queries of the study in the coordinator's sites that wait for the site (status open). */
+  openQueries(studyId: () => string | undefined): HttpResourceRef<Query[] | undefined> {
+    return httpResource(
+      () => {
+        const url = whenKnown([studyId()], (study) => studyUrl(study, 'queries'));
+        return url ? { url, params: { status: 'open' } } : undefined;
+      },
+      { parse: (body) => queryListSchema.parse(body) },
+    );
+  }
+
+  /** Answers a query; it becomes `answered`. Fails 409 `locked` or `query-closed`. */
+  answerQuery(studyId: string, queryId: string, body: string): Observable<Query> {
+    return this.http
+      .post<unknown>(studyUrl(studyId, `queries/${encodeURIComponent(queryId)}/answers`), { body })
+      .pipe(map((answer) => querySchema.parse(answer)));
   }
 
   /** Link to the file exactly as it was received; the browser downloads it with the session cookie. */

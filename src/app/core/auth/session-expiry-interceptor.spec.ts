@@ -40,6 +40,14 @@ describe('sessionExpiryInterceptor', () => {
     expect(navigate).not.toHaveBeenCalled();
   });
 
+  it('leaves a signing route alone when it asks the signer to confirm their identity', () => {
+    http.post('/api/studies/s/reads/r/sign', {}).subscribe({ error: () => undefined });
+    backend
+      .expectOne('/api/studies/s/reads/r/sign')
+      .flush({ error: { code: 'reauthentication-required', message: 'Confirm your identity' } }, { status: 401, statusText: 'Unauthorized' });
+    expect(navigate).not.toHaveBeenCalled();
+  });
+
   it('does not react to other errors', () => {
     http.get('/api/studies').subscribe({ error: () => undefined });
     backend.expectOne('/api/studies').flush({}, { status: 403, statusText: 'Forbidden' });

@@ -1,4 +1,7 @@
 import { ChangeDetectionStrategy, Component, computed, inject } from '@angular/core';
+import { MatAnchor } from '@angular/material/button';
+import { MatIcon } from '@angular/material/icon';
+import { RouterLink } from '@angular/router';
 
 import { AuthSession } from '../../core/auth/auth-session';
 import { ROLE_LABELS } from '../../core/auth/role-labels';
@@ -7,7 +10,7 @@ import { AreaWelcome } from '../../ui/area-welcome/area-welcome';
 /** Home of the Data office area: what a data manager does here, and in which studies. */
 @Component({
   selector: 'app-data-office-home',
-  imports: [AreaWelcome],
+  imports: [AreaWelcome, MatAnchor, MatIcon, RouterLink],
   templateUrl: './data-office-home.html',
   styleUrl: './data-office-home.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,

@@ -126,6 +126,7 @@ describe('SessionDetailPage', () => {
     await new Promise((resolve) => setTimeout(resolve));
     TestBed.tick();
     if (session.efforts.length) backend.expectOne(`${BASE}/sessions/session-1/curves`).flush(CURVES);
+    backend.expectOne(`${BASE}/sessions/session-1/queries`).flush([]);
     await fixture.whenStable();
   }
 
@@ -137,7 +138,8 @@ describe('SessionDetailPage', () => {
     expect(text()).toContain('80%');
     expect(text()).toContain('Not acceptable');
     expect(text()).toContain('A cough in the first second.');
-    expect(text()).toContain('No feedback or query has arrived for this session yet.');
+    expect(text()).toContain('No query on this session.');
+    expect(text()).toContain('No feedback yet.');
     expect((fixture.nativeElement as HTMLElement).querySelector('app-caution-note')).not.toBeNull();
     // A checked session takes no new file here.
     expect((fixture.nativeElement as HTMLElement).querySelector('app-session-file-upload')).toBeNull();

@@ -20,7 +20,9 @@ import { CautionNote } from '../../ui/caution-note/caution-note';
 import { EffortCurves } from '../../ui/effort-curves/effort-curves';
 import { EffortTable } from '../effort-table/effort-table';
 import { BRONCHODILATOR_LABELS, ETHNICITY_LABELS, gradeText } from '../session-labels';
+import { SessionFeedback } from '../session-feedback/session-feedback';
 import { SessionFileUpload } from '../session-file-upload/session-file-upload';
+import { SessionQueries } from '../session-queries/session-queries';
 import { SessionStatusChip } from '../session-status-chip/session-status-chip';
 import { SiteDeskApi, fileRejectionOf } from '../site-desk-api';
 import { UploadHistory } from '../upload-history/upload-history';
@@ -33,8 +35,8 @@ interface ReprocessProblem {
 }
 
 /**
- * One session for its site: registration, the engine's checks and curves, the files received,
- * and the place where over-read feedback will arrive.
+ * One session for its site: queries from the study team, the over-read feedback once final,
+ * registration, the engine's checks and curves, and the files received.
  */
 @Component({
   selector: 'app-session-detail',
@@ -47,7 +49,9 @@ interface ReprocessProblem {
     CautionNote,
     EffortCurves,
     EffortTable,
+    SessionFeedback,
     SessionFileUpload,
+    SessionQueries,
     SessionStatusChip,
     UploadHistory,
     ZonedTimePipe,

@@ -52,6 +52,36 @@ describe('volumeTimeFigure', () => {
   });
 });
 
+describe('volumeTimeFigure marks', () => {
+  type ShapeSeen = { name?: string; type?: string; x0?: number; x1?: number; yref?: string };
+  const shapesOf = (figure: { layout: { shapes?: unknown[] } }) => (figure.layout.shapes ?? []) as ShapeSeen[];
+
+  it('draws no mark unless asked, so the site desk charts stay as they were', () => {
+    expect(shapesOf(volumeTimeFigure(CURVES, 1))).toEqual([]);
+  });
+
+  it('marks time zero at 0 s and the 1-s mark at 1 s, across the whole plot height', () => {
+    const shapes = shapesOf(volumeTimeFigure(CURVES, 1, { timeMarks: true, fetS: null }));
+    expect(shapes.map(({ name, type, x0, x1, yref }) => ({ name, type, x0, x1, yref }))).toEqual([
+      { name: 'time-zero', type: 'line', x0: 0, x1: 0, yref: 'paper' },
+      { name: 'one-second', type: 'line', x0: 1, x1: 1, yref: 'paper' },
+    ]);
+  });
+
+  // ATS/ERS 2019 (Graham et al. 2019): the plateau is judged on the volume change in the last 1 s of expiration.
+  it.each([
+    { fetS: 7.25, window: [6.25, 7.25] },
+    { fetS: 0.6, window: [0, 0.6] },
+  ])('shades the last second before FET $fetS s of the highlighted effort', ({ fetS, window }) => {
+    const plateau = shapesOf(volumeTimeFigure(CURVES, 2, { timeMarks: false, fetS })).find((shape) => shape.name === 'plateau-window');
+    expect([plateau?.x0, plateau?.x1]).toEqual(window);
+  });
+
+  it('shades no plateau window when no effort is highlighted', () => {
+    expect(shapesOf(volumeTimeFigure(CURVES, null, { timeMarks: false, fetS: 7 }))).toEqual([]);
+  });
+});
+
 describe('flowVolumeFigure', () => {
   it('plots flow against volume at 2 L/s to 1 L (ATS/ERS display ratio)', () => {
     const figure = flowVolumeFigure(CURVES, 2);

@@ -1,4 +1,4 @@
-import type { Data, Layout } from 'plotly.js-dist-min';
+import type { Data, Layout, Shape } from 'plotly.js-dist-min';
 
 import type { SessionCurves } from '@shared/contracts/sessions';
 
@@ -57,11 +57,26 @@ function baseLayout(xTitle: string, yTitle: string): Partial<Layout> {
   };
 }
 
+/** Reading marks on the volume-time chart; the curves' time axis starts at time zero. */
+export interface VolumeTimeMarks {
+  /** Whether to draw time zero and the 1-s mark (where FEV1 is read). */
+  readonly timeMarks: boolean;
+  /**
+   * FET of the highlighted effort (s): the last second of forced expiration, where the plateau
+   * criterion is judged (ATS/ERS 2019, Graham et al. 2019), is shaded. Null draws no window.
+   */
+  readonly fetS: number | null;
+}
+
+const NO_MARKS: VolumeTimeMarks = { timeMarks: false, fetS: null };
+const MARK_COLOUR = '#41484b';
+
 /** Volume against time for every effort, with the back-extrapolation of the highlighted one. */
-export function volumeTimeFigure(curves: SessionCurves, highlighted: number | null): CurveFigure {
+export function volumeTimeFigure(curves: SessionCurves, highlighted: number | null, marks: VolumeTimeMarks = NO_MARKS): CurveFigure {
   const data: Data[] = [];
   const effortOfTrace: number[] = [];
-  for (const { effort, colour } of inDrawingOrder(curves, highlighted)) {
+  const drawingOrder = inDrawingOrder(curves, highlighted);
+  for (const { effort, colour } of drawingOrder) {
     const isHighlighted = effort.index === highlighted;
     data.push({
       type: 'scatter',
@@ -86,7 +101,54 @@ export function volumeTimeFigure(curves: SessionCurves, highlighted: number | nu
       effortOfTrace.push(effort.index);
     }
   }
-  return { data, layout: baseLayout('Time (s)', 'Volume (L)'), effortOfTrace };
+  const highlightedColour = drawingOrder.find(({ effort }) => effort.index === highlighted)?.colour ?? null;
+  const shapes = volumeTimeShapes(marks, highlightedColour);
+  const layout = baseLayout('Time (s)', 'Volume (L)');
+  return {
+    data,
+    // Room above the plot for the marks' labels.
+    layout: shapes.length ? { ...layout, shapes, margin: { ...layout.margin, t: 32 } } : layout,
+    effortOfTrace,
+  };
+}
+
+/** Vertical marks at time zero and 1 s, and the plateau window of the highlighted effort. */
+function volumeTimeShapes(marks: VolumeTimeMarks, highlightedColour: string | null): Partial<Shape>[] {
+  const shapes: Partial<Shape>[] = [];
+  const label = (text: string) => ({ text, textposition: 'end' as const, yanchor: 'bottom' as const, font: { size: 11, color: MARK_COLOUR } });
+  if (marks.fetS !== null && highlightedColour !== null && Number.isFinite(marks.fetS) && marks.fetS > 0) {
+    shapes.push({
+      type: 'rect',
+      name: 'plateau-window',
+      xref: 'x',
+      yref: 'paper',
+      x0: Math.max(0, marks.fetS - 1),
+      x1: marks.fetS,
+      y0: 0,
+      y1: 1,
+      layer: 'below',
+      fillcolor: highlightedColour,
+      opacity: 0.14,
+      line: { width: 0 },
+      label: { ...label('Last second'), textposition: 'top center' },
+    });
+  }
+  if (marks.timeMarks) {
+    const vertical = (name: string, x: number, text: string, dash: 'dot' | 'dashdot'): Partial<Shape> => ({
+      type: 'line',
+      name,
+      xref: 'x',
+      yref: 'paper',
+      x0: x,
+      x1: x,
+      y0: 0,
+      y1: 1,
+      line: { color: MARK_COLOUR, width: 1.25, dash },
+      label: label(text),
+    });
+    shapes.push(vertical('time-zero', 0, 'Time zero', 'dot'), vertical('one-second', 1, '1 s', 'dashdot'));
+  }
+  return shapes;
 }
 
 /**

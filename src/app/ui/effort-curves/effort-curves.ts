@@ -1,6 +1,7 @@
 import {
   ChangeDetectionStrategy,
   Component,
+  booleanAttribute,
   DestroyRef,
   ElementRef,
   afterRenderEffect,
@@ -11,10 +12,12 @@ import {
   signal,
   viewChild,
 } from '@angular/core';
-import type { Config, PlotlyHTMLElement } from 'plotly.js-dist-min';
+import { MatButton } from '@angular/material/button';
+import { MatIcon } from '@angular/material/icon';
+import type { Config, Layout, PlotlyHTMLElement } from 'plotly.js-dist-min';
 
 import type { SessionCurves } from '@shared/contracts/sessions';
-import { flowVolumeFigure, volumeTimeFigure, type CurveFigure } from './effort-curve-figures';
+import { flowVolumeFigure, volumeTimeFigure, type CurveFigure, type VolumeTimeMarks } from './effort-curve-figures';
 import { loadPlotly, type PlotlyApi } from './plotly-loader';
 
 const PLOT_CONFIG: Partial<Config> = {
@@ -28,10 +31,13 @@ let nextId = 0;
 /**
  * Volume-time and flow-volume charts of a session's efforts, all overlaid. The highlighted effort
  * is drawn thick and on top (with its back-extrapolation); clicking a curve selects its effort.
+ * Readers also get time zero, the 1-s mark and the last-second plateau window. Plotly's own zoom
+ * works on both charts; "Reset zoom" (or {@link resetZoom}) shows the whole curves again.
  * Presentational: it draws what it is given and reports clicks.
  */
 @Component({
   selector: 'app-effort-curves',
+  imports: [MatButton, MatIcon],
   templateUrl: './effort-curves.html',
   styleUrl: './effort-curves.scss',
   changeDetection: ChangeDetectionStrategy.OnPush,
@@ -40,6 +46,10 @@ export class EffortCurves {
   readonly curves = input.required<SessionCurves>();
   /** Index of the effort drawn on top; null draws all alike. */
   readonly highlightedIndex = input<number | null>(null);
+  /** Whether to mark time zero and 1 s on the volume-time chart. */
+  readonly timeMarks = input(false, { transform: booleanAttribute });
+  /** FET (s) of the highlighted effort, to shade its last second; null shades nothing. */
+  readonly highlightedFetS = input<number | null>(null);
   /** The index of an effort whose curve was clicked. */
   readonly effortSelected = output<number>();
 
@@ -52,7 +62,9 @@ export class EffortCurves {
     const efforts = this.curves().efforts;
     const highlighted = efforts.find((effort) => effort.index === this.highlightedIndex());
     const count = `${efforts.length} ${efforts.length === 1 ? 'effort' : 'efforts'} overlaid`;
-    return highlighted ? `${count}; ${highlighted.label} is highlighted.` : `${count}.`;
+    const marks = this.timeMarks() ? ' Time zero and 1 s are marked.' : '';
+    const window = highlighted && this.highlightedFetS() !== null ? ' The last second before its FET is shaded.' : '';
+    return (highlighted ? `${count}; ${highlighted.label} is highlighted.` : `${count}.`) + marks + window;
   });
 
   /** Effort index of each trace, per chart element, as last drawn. */
@@ -64,7 +76,7 @@ export class EffortCurves {
 
   constructor() {
     afterRenderEffect(() => {
-      void this.draw(this.curves(), this.highlightedIndex());
+      void this.draw(this.curves(), this.highlightedIndex(), { timeMarks: this.timeMarks(), fetS: this.highlightedFetS() });
     });
     inject(DestroyRef).onDestroy(() => {
       this.destroyed = true;
@@ -72,7 +84,16 @@ export class EffortCurves {
     });
   }
 
-  private async draw(curves: SessionCurves, highlighted: number | null): Promise<void> {
+  /** Shows the whole curves again on both charts, after plotly zooming. */
+  resetZoom(): void {
+    const plotly = this.plotly;
+    if (!plotly) return;
+    // Plotly takes dotted attribute paths here, which its Layout type does not list.
+    const autorange = { 'xaxis.autorange': true, 'yaxis.autorange': true } as Partial<Layout>;
+    for (const element of this.effortOfTrace.keys()) void plotly.relayout(element, autorange);
+  }
+
+  private async draw(curves: SessionCurves, highlighted: number | null, marks: VolumeTimeMarks): Promise<void> {
     const drawing = ++this.drawCount;
     const plotly = await loadPlotly().catch(() => null);
     // A newer draw started while plotly loaded, or the page went away: leave it to that one.
@@ -83,7 +104,7 @@ export class EffortCurves {
     }
     this.plotly = plotly;
     await Promise.all([
-      this.drawFigure(plotly, this.volumeTimePlot().nativeElement, volumeTimeFigure(curves, highlighted)),
+      this.drawFigure(plotly, this.volumeTimePlot().nativeElement, volumeTimeFigure(curves, highlighted, marks)),
       this.drawFigure(plotly, this.flowVolumePlot().nativeElement, flowVolumeFigure(curves, highlighted)),
     ]);
     this.drawState.set('drawn');

@@ -1,0 +1,158 @@
+import type { QueuePage, ReadWorkspace } from '../../shared/contracts/reading.js';
+import type { AuditTrail } from '../audit/audit-trail.js';
+import type { Principal } from '../auth/principal.js';
+import { AppError } from '../http/app-error.js';
+import { studyActor } from '../http/access.js';
+import type { SessionRepository } from '../sessions/session-repository.js';
+import type { StudyRepository, StudyRow } from '../studies/study-repository.js';
+import { needsDualRead } from './dual-read-rules.js';
+import type { QueueTokens } from './queue-token.js';
+import {
+  AWAITING_READ_STATUSES,
+  effectiveDualRead,
+  liveOverReads,
+  readDueAt,
+  readEligibility,
+  readerBlinding,
+} from './read-queue-rules.js';
+import type { QueueCandidateRow, ReadingRepository, ReadRow } from './reading-repository.js';
+import type { ReadingService } from './reading-service.js';
+
+/** Statuses whose sessions a queue token may still name: a claim on them answers 409, not 404. */
+const CLAIMABLE_OR_DONE = [...AWAITING_READ_STATUSES, 'adjudication', 'final'];
+
+/** One session open to the reader, with what the queue shows. */
+interface OpenSession {
+  readonly row: QueueCandidateRow;
+  readonly kind: 'first' | 'second';
+  readonly dueAt: string;
+  readonly token: string;
+}
+
+/**
+ * The reader's queue (blinded, oldest due first, opaque per-reader tokens) and claims from it.
+ * Claims run in an immediate transaction, so two readers racing for one session are decided by
+ * the database: the second finds the first's read and is refused.
+ */
+export class ReadQueueService {
+  constructor(
+    private readonly repository: ReadingRepository,
+    private readonly sessions: SessionRepository,
+    private readonly studies: StudyRepository,
+    private readonly reading: ReadingService,
+    private readonly tokens: QueueTokens,
+    private readonly audit: AuditTrail,
+    private readonly clock: () => Date,
+  ) {}
+
+  /** Sessions awaiting a read that this reader may claim. */
+  queue(principal: Principal, studyId: string): QueuePage {
+    const study = this.requireStudy(studyId);
+    const blinding = readerBlinding(study.blindingJson);
+    const now = this.clock().getTime();
+    const open = this.openSessionsFor(principal.user.id, study).sort(
+      (a, b) => a.dueAt.localeCompare(b.dueAt) || a.token.localeCompare(b.token),
+    );
+    return {
+      items: open.map(({ row, kind, dueAt, token }) => ({
+        queueToken: token,
+        kind,
+        visitCode: blinding.showVisit ? row.visitCode : null,
+        timepointCode: blinding.showTimepoint ? row.timepointCode : null,
+        bronchodilator: blinding.showBronchodilator ? row.session.bronchodilator : null,
+        effortCount: row.effortCount,
+        dueAt,
+        overdue: Date.parse(dueAt) < now,
+      })),
+      total: open.length,
+      turnaroundHours: study.turnaroundHours,
+    };
+  }
+
+  /** Claims the session behind a queue token: a new read with the engine's suggestions pre-filled. */
+  claim(principal: Principal, studyId: string, queueToken: string): ReadWorkspace {
+    const actor = studyActor(principal, studyId, ['over-reader']);
+    const study = this.requireStudy(studyId);
+    const readerId = principal.user.id;
+    const match = this.repository
+      .candidateSessions(studyId, CLAIMABLE_OR_DONE)
+      .find((row) => this.tokens.tokenFor(readerId, row.session.id) === queueToken);
+    if (!match) {
+      throw AppError.notFound('This queue item is not one of your queue; reload the queue and pick again.');
+    }
+    const read = this.audit.write(actor, (record): ReadRow => {
+      const session = this.sessions.findSessionById(match.session.id)!;
+      this.reading.assertUnlocked(session);
+      const reads = this.repository.readsOfSession(session.id);
+      const dualRead = effectiveDualRead(session.dualRead, liveOverReads(reads).length, () => needsDualRead(study, session.id));
+      const eligibility = readEligibility({ status: session.status, dualRead }, reads, readerId);
+      if (!eligibility.eligible) {
+        switch (eligibility.reason) {
+          case 'already-yours':
+            throw AppError.conflict(
+              'You already have a read of this session (see your reads); a session is never given to the same reader twice.',
+              undefined,
+              'already-yours',
+            );
+          case 'already-claimed':
+            throw AppError.conflict(
+              dualRead
+                ? 'Both reads of this session are already claimed by other readers; it has left your queue. Take the next item.'
+                : 'Another reader has already claimed this session; it has left your queue. Take the next item.',
+              undefined,
+              'already-claimed',
+            );
+          case 'not-awaiting-read':
+            throw AppError.conflict('This session no longer awaits a read; reload the queue.', undefined, 'not-awaiting-read');
+        }
+      }
+      const created = this.reading.startRead(record, {
+        session,
+        readerId,
+        kind: eligibility.kind,
+        dueAt: readDueAt(match.checkedAt, study.turnaroundHours),
+      });
+      if (session.status !== 'in-reading' || session.dualRead !== dualRead) {
+        this.sessions.updateSession(session.id, { status: 'in-reading', dualRead, updatedAt: created.claimedAt });
+        record({
+          studyId,
+          siteId: session.siteId,
+          entity: 'session',
+          entityId: session.id,
+          action: 'start-reading',
+          oldValue: { status: session.status, dualRead: session.dualRead },
+          newValue: { status: 'in-reading', dualRead, readId: created.id },
+        });
+      }
+      return created;
+    });
+    return this.reading.workspaceOf(read);
+  }
+
+  private openSessionsFor(readerId: string, study: StudyRow): OpenSession[] {
+    const readsBySession = new Map<string, ReadRow[]>();
+    for (const read of this.repository.liveReadsOfStudy(study.id)) {
+      readsBySession.set(read.sessionId, [...(readsBySession.get(read.sessionId) ?? []), read]);
+    }
+    const open: OpenSession[] = [];
+    for (const row of this.repository.candidateSessions(study.id, AWAITING_READ_STATUSES)) {
+      const reads = readsBySession.get(row.session.id) ?? [];
+      const dualRead = effectiveDualRead(row.session.dualRead, liveOverReads(reads).length, () => needsDualRead(study, row.session.id));
+      const eligibility = readEligibility({ status: row.session.status, dualRead }, reads, readerId);
+      if (!eligibility.eligible || this.sessions.activeLockOn(row.session)) continue;
+      open.push({
+        row,
+        kind: eligibility.kind,
+        dueAt: readDueAt(row.checkedAt, study.turnaroundHours),
+        token: this.tokens.tokenFor(readerId, row.session.id),
+      });
+    }
+    return open;
+  }
+
+  private requireStudy(studyId: string): StudyRow {
+    const study = this.studies.findStudy(studyId);
+    if (!study) throw AppError.notFound('There is no such study.');
+    return study;
+  }
+}

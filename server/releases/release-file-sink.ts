@@ -1,0 +1,84 @@
+/**
+ * A temporary release file being written: every byte goes to disk and through SHA-256 as it
+ * passes, so the file never sits whole in memory and its digest is ready when it is closed.
+ */
+import { createHash, type Hash } from 'node:crypto';
+import fs from 'node:fs';
+import { Writable } from 'node:stream';
+import type { StoredDigest } from './release-store.js';
+
+/** Writes one file while hashing it; `write` waits when the disk is behind. */
+export class HashingFileSink {
+  private readonly file: fs.WriteStream;
+  private readonly hash: Hash = createHash('sha256');
+  private size = 0;
+  private failure: Error | undefined;
+  /** Text is gathered into blocks of this many characters before it is written. */
+  private pending = '';
+  private static readonly TEXT_BLOCK = 256 * 1024;
+
+  constructor(readonly path: string) {
+    this.file = fs.createWriteStream(path);
+    this.file.on('error', (error) => {
+      this.failure = error;
+    });
+  }
+
+  /** Appends text (UTF-8), buffered into blocks. */
+  async writeText(text: string): Promise<void> {
+    this.pending += text;
+    if (this.pending.length >= HashingFileSink.TEXT_BLOCK) await this.flushText();
+  }
+
+  /** Appends bytes; resolves once the disk has room for more. */
+  async write(bytes: Buffer): Promise<void> {
+    await this.flushText();
+    await this.writeBytes(bytes);
+  }
+
+  /** A Writable for writers that pipe (the workbook's zip stream). */
+  asWritable(): Writable {
+    return new Writable({
+      write: (chunk: Buffer, _encoding, callback) => {
+        this.writeBytes(chunk).then(() => callback(), callback);
+      },
+    });
+  }
+
+  /** Flushes, closes the file and returns its SHA-256 and size. */
+  async close(): Promise<StoredDigest> {
+    await this.flushText();
+    await new Promise<void>((resolve, reject) => {
+      this.file.end((error?: Error | null) => (error ? reject(error) : resolve()));
+    });
+    if (this.failure) throw this.failure;
+    return { sha256: this.hash.digest('hex'), sizeBytes: this.size };
+  }
+
+  private async flushText(): Promise<void> {
+    if (this.pending.length === 0) return;
+    const bytes = Buffer.from(this.pending, 'utf8');
+    this.pending = '';
+    await this.writeBytes(bytes);
+  }
+
+  private async writeBytes(bytes: Buffer): Promise<void> {
+    if (this.failure) throw this.failure;
+    this.hash.update(bytes);
+    this.size += bytes.length;
+    if (!this.file.write(bytes)) {
+      await new Promise<void>((resolve, reject) => {
+        const onDrain = () => {
+          this.file.off('error', onError);
+          resolve();
+        };
+        const onError = (error: Error) => {
+          this.file.off('drain', onDrain);
+          reject(error);
+        };
+        this.file.once('drain', onDrain);
+        this.file.once('error', onError);
+      });
+    }
+  }
+}

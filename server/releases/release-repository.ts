@@ -1,0 +1,131 @@
+import type { Statement } from 'better-sqlite3';
+import { and, asc, eq, isNull, sql } from 'drizzle-orm';
+import type { TidemarkDatabase } from '../db/database.js';
+import { auditEvents, dataLocks, efforts, studies, testSessions } from '../db/schema.js';
+import type { EffortFacts, LockHead, SessionHead, SignedReadHead, VerdictFacts } from './release-scope.js';
+
+export type ReleaseStudyRow = typeof studies.$inferSelect;
+export type ReleaseAuditRow = typeof auditEvents.$inferSelect;
+
+/** Reads the locked data a release is built from: sessions, locks, final reads, efforts and verdicts. */
+export class ReleaseRepository {
+  private headsStatement: Statement | undefined;
+  private readsStatement: Statement | undefined;
+  private effortsStatement: Statement | undefined;
+  private verdictsStatement: Statement | undefined;
+
+  constructor(private readonly db: TidemarkDatabase) {}
+
+  findStudy(studyId: string): ReleaseStudyRow | undefined {
+    return this.db.select().from(studies).where(eq(studies.id, studyId)).get();
+  }
+
+  /** Every session of the study with the codes and names of its site, subject and schedule. */
+  sessionHeads(studyId: string): SessionHead[] {
+    this.headsStatement ??= this.db.$client.prepare(
+      `select s.id, s.site_id as siteId, site.number as siteNumber, s.subject_id as subjectId, subject.code as subjectCode,
+              s.visit_id as visitId, visit.code as visitCode, visit.name as visitName, visit.ordinal as visitOrdinal,
+              timepoint.code as timepointCode, timepoint.name as timepointName, timepoint.ordinal as timepointOrdinal,
+              s.bronchodilator, s.status, s.tested_at as testedAt, s.time_zone as timeZone, s.age_years as ageYears,
+              s.height_cm as heightCm, s.weight_kg as weightKg, s.sex, s.technician_code as technicianCode,
+              s.device_manufacturer as deviceManufacturer, s.device_model as deviceModel,
+              s.device_serial_number as deviceSerialNumber, s.updated_at as updatedAt
+         from test_sessions s
+         join sites site on site.id = s.site_id
+         join subjects subject on subject.id = s.subject_id
+         join visits visit on visit.id = s.visit_id
+         join timepoints timepoint on timepoint.id = s.timepoint_id
+        where s.study_id = ?`,
+    );
+    return this.headsStatement.all(studyId) as SessionHead[];
+  }
+
+  /** Locks of the study that are in force. */
+  activeLocks(studyId: string): LockHead[] {
+    return this.db
+      .select({ id: dataLocks.id, scope: dataLocks.scope, scopeId: dataLocks.scopeId, lockedAt: dataLocks.lockedAt, unlockedAt: dataLocks.unlockedAt })
+      .from(dataLocks)
+      .where(and(eq(dataLocks.studyId, studyId), isNull(dataLocks.unlockedAt)))
+      .orderBy(asc(dataLocks.lockedAt), asc(dataLocks.id))
+      .all();
+  }
+
+  /** Signed reads of the study's sessions, with the printed name of their signature. */
+  signedReads(studyId: string): SignedReadHead[] {
+    this.readsStatement ??= this.db.$client.prepare(
+      `select r.id, r.session_id as sessionId, r.upload_id as uploadId, r.kind, r.version,
+              coalesce(r.signed_at, r.updated_at) as signedAt, r.result_json as resultJson,
+              coalesce(signature.printed_name, reader.name) as signerName
+         from reads r
+         left join signatures signature on signature.id = r.signature_id
+         join users reader on reader.id = r.reader_id
+        where r.study_id = ? and r.status = 'signed'`,
+    );
+    return this.readsStatement.all(studyId) as SignedReadHead[];
+  }
+
+  /**
+   * Efforts of the given checked files, grouped by file; metrics beyond the stored columns come
+   * from their JSON inside SQLite. One prepared statement takes the ids as a JSON array, so the
+   * release's many batches reuse it.
+   */
+  effortsOfUploads(uploadIds: readonly string[]): Map<string, EffortFacts[]> {
+    const grouped = new Map<string, EffortFacts[]>(uploadIds.map((id) => [id, []]));
+    this.effortsStatement ??= this.db.$client.prepare(
+      `select upload_id as uploadId, id, effort_index as effortIndex, label, fev1_l as fev1L, fvc_l as fvcL, pef_l_per_s as pefLPerS,
+              json_extract(metrics_json, '$.fef2575LPerS') as fef2575LPerS, json_extract(metrics_json, '$.fetS') as fetS,
+              json_extract(metrics_json, '$.bevL') as bevL, suggested_fev1_verdict as suggestedFev1Verdict,
+              suggested_fvc_verdict as suggestedFvcVerdict,
+              coalesce((select group_concat(json_extract(finding.value, '$.code'), ';') from json_each(findings_json) as finding), '') as engineFindings
+         from efforts where upload_id in (select value from json_each(?))`,
+    );
+    for (const row of this.effortsStatement.all(JSON.stringify(uploadIds)) as (EffortFacts & { uploadId: string })[]) {
+      const { uploadId, ...effort } = row;
+      grouped.get(uploadId)?.push(effort);
+    }
+    return grouped;
+  }
+
+  /** How many efforts each checked file of the study has, by upload id. */
+  effortCounts(studyId: string): Map<string, number> {
+    const rows = this.db
+      .select({ uploadId: efforts.uploadId, count: sql<number>`count(*)` })
+      .from(efforts)
+      .innerJoin(testSessions, eq(testSessions.id, efforts.sessionId))
+      .where(eq(testSessions.studyId, studyId))
+      .groupBy(efforts.uploadId)
+      .all();
+    return new Map(rows.map((row) => [row.uploadId, row.count]));
+  }
+
+  /** The verdicts of the given reads, grouped by read. */
+  verdictsOfReads(readIds: readonly string[]): Map<string, VerdictFacts[]> {
+    const grouped = new Map<string, VerdictFacts[]>(readIds.map((id) => [id, []]));
+    this.verdictsStatement ??= this.db.$client.prepare(
+      `select read_id as readId, effort_index as effortIndex, fev1_verdict as fev1Verdict, fvc_verdict as fvcVerdict,
+              findings_json as findingsJson, comment
+         from read_verdicts where read_id in (select value from json_each(?))`,
+    );
+    for (const row of this.verdictsStatement.all(JSON.stringify(readIds)) as (VerdictFacts & { readId: string })[]) {
+      const { readId, ...verdict } = row;
+      grouped.get(readId)?.push(verdict);
+    }
+    return grouped;
+  }
+
+  /** The audit rows of the study's releases, oldest first. */
+  releaseEvents(studyId: string, releaseId?: string): ReleaseAuditRow[] {
+    return this.db
+      .select()
+      .from(auditEvents)
+      .where(
+        and(
+          eq(auditEvents.studyId, studyId),
+          eq(auditEvents.entity, 'release'),
+          releaseId === undefined ? undefined : eq(auditEvents.entityId, releaseId),
+        ),
+      )
+      .orderBy(asc(auditEvents.sequence))
+      .all();
+  }
+}
