@@ -87,6 +87,9 @@ import { LockRepository } from './locks/lock-repository.js';
 import { lockRoutes } from './locks/lock-routes.js';
 import { LockService } from './locks/lock-service.js';
 // ── end locks ──
+// ── releases ──
+import { createReleaseService, releaseRoutes } from './releases/release-routes.js';
+// ── end releases ──
 import { ReferenceSetRepository } from './reference-sets/reference-set-repository.js';
 import { referenceSetRoutes } from './reference-sets/reference-set-routes.js';
 import { ReferenceSetService } from './reference-sets/reference-set-service.js';
@@ -194,6 +197,7 @@ export function createApp(deps: AppDependencies): { app: Express; registry: ApiR
   // ── locks ──
   const locks = new LockService(lockRepository, signatures, (scope) => queries.openQueryCount(scope), audit, clock);
   // ── end locks ──
+  const releases = createReleaseService(deps, { audit, messages, signatures, clock }); // releases
   const health = new HealthService(
     {
       database: () => pingDatabase(db),
@@ -281,6 +285,7 @@ export function createApp(deps: AppDependencies): { app: Express; registry: ApiR
   app.use(auditTrailQueryRoutes(registry, auditTrailQuery)); // oversight
   app.use(performanceRoutes(registry, performance)); // oversight
   app.use(lockRoutes(registry, locks)); // locks
+  app.use(releaseRoutes(registry, releases)); // releases
   app.use(['/api', '/auth'], apiNotFound);
 
   serveWebClient(app, config.webDir);

@@ -15,7 +15,7 @@ export class HashingFileSink {
   private failure: Error | undefined;
   /** Text is gathered into blocks of this many characters before it is written. */
   private pending = '';
-  private static readonly TEXT_BLOCK = 256 * 1024;
+  private static readonly TEXT_BLOCK = 64 * 1024;
 
   constructor(readonly path: string) {
     this.file = fs.createWriteStream(path);

@@ -2,7 +2,7 @@ import type { Statement } from 'better-sqlite3';
 import { and, asc, eq, isNull, sql } from 'drizzle-orm';
 import type { TidemarkDatabase } from '../db/database.js';
 import { auditEvents, dataLocks, efforts, studies, testSessions } from '../db/schema.js';
-import type { EffortFacts, LockHead, SessionHead, SignedReadHead, VerdictFacts } from './release-scope.js';
+import type { EffortFacts, LockHead, SessionDetails, SessionHead, SignedReadHead, VerdictFacts } from './release-scope.js';
 
 export type ReleaseStudyRow = typeof studies.$inferSelect;
 export type ReleaseAuditRow = typeof auditEvents.$inferSelect;
@@ -10,6 +10,7 @@ export type ReleaseAuditRow = typeof auditEvents.$inferSelect;
 /** Reads the locked data a release is built from: sessions, locks, final reads, efforts and verdicts. */
 export class ReleaseRepository {
   private headsStatement: Statement | undefined;
+  private detailsStatement: Statement | undefined;
   private readsStatement: Statement | undefined;
   private effortsStatement: Statement | undefined;
   private verdictsStatement: Statement | undefined;
@@ -20,16 +21,16 @@ export class ReleaseRepository {
     return this.db.select().from(studies).where(eq(studies.id, studyId)).get();
   }
 
-  /** Every session of the study with the codes and names of its site, subject and schedule. */
+  /**
+   * Every session of the study with the ids, codes and order of its site, subject and schedule.
+   * Values repeated across sessions (codes, ids of sites and visits) are shared, not copied per row.
+   */
   sessionHeads(studyId: string): SessionHead[] {
     this.headsStatement ??= this.db.$client.prepare(
       `select s.id, s.site_id as siteId, site.number as siteNumber, s.subject_id as subjectId, subject.code as subjectCode,
-              s.visit_id as visitId, visit.code as visitCode, visit.name as visitName, visit.ordinal as visitOrdinal,
-              timepoint.code as timepointCode, timepoint.name as timepointName, timepoint.ordinal as timepointOrdinal,
-              s.bronchodilator, s.status, s.tested_at as testedAt, s.time_zone as timeZone, s.age_years as ageYears,
-              s.height_cm as heightCm, s.weight_kg as weightKg, s.sex, s.technician_code as technicianCode,
-              s.device_manufacturer as deviceManufacturer, s.device_model as deviceModel,
-              s.device_serial_number as deviceSerialNumber, s.updated_at as updatedAt
+              s.visit_id as visitId, visit.code as visitCode, visit.ordinal as visitOrdinal,
+              timepoint.code as timepointCode, timepoint.ordinal as timepointOrdinal,
+              s.bronchodilator, s.status, s.updated_at as updatedAt
          from test_sessions s
          join sites site on site.id = s.site_id
          join subjects subject on subject.id = s.subject_id
@@ -37,7 +38,44 @@ export class ReleaseRepository {
          join timepoints timepoint on timepoint.id = s.timepoint_id
         where s.study_id = ?`,
     );
-    return this.headsStatement.all(studyId) as SessionHead[];
+    const shared = new Map<string, string>();
+    const one = (value: string) => {
+      const known = shared.get(value);
+      if (known !== undefined) return known;
+      shared.set(value, value);
+      return value;
+    };
+    return (this.headsStatement.all(studyId) as SessionHead[]).map((row) => ({
+      id: row.id,
+      siteId: one(row.siteId),
+      siteNumber: one(row.siteNumber),
+      subjectId: row.subjectId,
+      subjectCode: row.subjectCode,
+      visitId: one(row.visitId),
+      visitCode: one(row.visitCode),
+      visitOrdinal: row.visitOrdinal,
+      timepointCode: one(row.timepointCode),
+      timepointOrdinal: row.timepointOrdinal,
+      bronchodilator: row.bronchodilator,
+      status: one(row.status),
+      updatedAt: row.updatedAt,
+    }));
+  }
+
+  /** The rest of what the release files say of the given sessions, by session id. */
+  sessionDetails(sessionIds: readonly string[]): Map<string, SessionDetails> {
+    this.detailsStatement ??= this.db.$client.prepare(
+      `select s.id, visit.name as visitName, timepoint.name as timepointName, s.tested_at as testedAt, s.time_zone as timeZone,
+              s.age_years as ageYears, s.height_cm as heightCm, s.weight_kg as weightKg, s.sex, s.technician_code as technicianCode,
+              s.device_manufacturer as deviceManufacturer, s.device_model as deviceModel, s.device_serial_number as deviceSerialNumber
+         from test_sessions s
+         join visits visit on visit.id = s.visit_id
+         join timepoints timepoint on timepoint.id = s.timepoint_id
+        where s.id in (select value from json_each(?))`,
+    );
+    const details = new Map<string, SessionDetails>();
+    for (const { id, ...row } of this.detailsStatement.all(JSON.stringify(sessionIds)) as (SessionDetails & { id: string })[]) details.set(id, row);
+    return details;
   }
 
   /** Locks of the study that are in force. */

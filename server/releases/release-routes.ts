@@ -10,8 +10,7 @@ import { studyActor } from '../http/access.js';
 import type { ApiRouteRegistry } from '../http/api-route.js';
 import { AppError } from '../http/app-error.js';
 import type { MessageService } from '../messages/message-service.js';
-import { SignatureRepository } from '../signatures/signature-repository.js';
-import { SignatureService } from '../signatures/signature-service.js';
+import type { SignatureService } from '../signatures/signature-service.js';
 import type { ObjectStorage } from '../storage/object-storage.js';
 import {
   releaseAcceptedSchema,
@@ -36,12 +35,12 @@ const fileParams = releaseParams.extend({ fileName: z.string().regex(/^[a-z0-9.-
 /** Builds the release service from the app's dependencies (the app and the benchmark use this). */
 export function createReleaseService(
   deps: { readonly db: TidemarkDatabase; readonly storage: ObjectStorage; readonly config: AppConfig; readonly logger: Logger },
-  shared: { readonly audit: AuditTrail; readonly messages: MessageService; readonly clock: () => Date },
+  shared: { readonly audit: AuditTrail; readonly messages: MessageService; readonly signatures: SignatureService; readonly clock: () => Date },
 ): ReleaseService {
   return new ReleaseService(
     new ReleaseRepository(deps.db),
     new ReleaseStore(deps.storage, deps.config.storage),
-    new SignatureService(new SignatureRepository(deps.db), shared.clock),
+    shared.signatures,
     shared.audit,
     shared.messages,
     shared.clock,

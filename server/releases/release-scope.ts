@@ -7,7 +7,11 @@ import { createHash } from 'node:crypto';
 import type { Verdict } from '../../shared/spirometry/model.js';
 import type { ReleaseEffort, ReleaseReadResult, ReleaseSession } from './release-model.js';
 
-/** A session as the repository lists it, with the codes and names of its schedule. */
+/**
+ * A session as the repository lists it for deciding and ordering: ids, codes and order only. The
+ * rest of what the files say of it ({@link SessionDetails}) is read a batch at a time, so that a
+ * release of tens of thousands of sessions keeps little in memory.
+ */
 export interface SessionHead {
   readonly id: string;
   readonly siteId: string;
@@ -16,13 +20,18 @@ export interface SessionHead {
   readonly subjectCode: string;
   readonly visitId: string;
   readonly visitCode: string;
-  readonly visitName: string;
   readonly visitOrdinal: number;
   readonly timepointCode: string;
-  readonly timepointName: string;
   readonly timepointOrdinal: number;
   readonly bronchodilator: 'pre' | 'post';
   readonly status: string;
+  readonly updatedAt: string;
+}
+
+/** The rest of a session: names of its schedule, time and place, demographics and device. */
+export interface SessionDetails {
+  readonly visitName: string;
+  readonly timepointName: string;
   readonly testedAt: string;
   readonly timeZone: string;
   readonly ageYears: number;
@@ -33,7 +42,6 @@ export interface SessionHead {
   readonly deviceManufacturer: string | null;
   readonly deviceModel: string | null;
   readonly deviceSerialNumber: string | null;
-  readonly updatedAt: string;
 }
 
 /** An active or lifted lock. */
@@ -212,6 +220,7 @@ export interface VerdictFacts {
 export function assembleSession(
   studyCode: string,
   session: SessionHead,
+  details: SessionDetails,
   lock: LockHead,
   read: SignedReadHead,
   result: ReleaseReadResult,
@@ -249,22 +258,22 @@ export function assembleSession(
     siteNumber: session.siteNumber,
     subjectCode: session.subjectCode,
     visitCode: session.visitCode,
-    visitName: session.visitName,
+    visitName: details.visitName,
     visitNumber: session.visitOrdinal,
     timepointCode: session.timepointCode,
-    timepointName: session.timepointName,
+    timepointName: details.timepointName,
     timepointNumber: session.timepointOrdinal,
     bronchodilator: session.bronchodilator,
-    testedAt: session.testedAt,
-    timeZone: session.timeZone,
-    ageYears: session.ageYears,
-    heightCm: session.heightCm,
-    weightKg: session.weightKg,
-    sex: session.sex,
-    technicianCode: session.technicianCode,
-    deviceManufacturer: session.deviceManufacturer,
-    deviceModel: session.deviceModel,
-    deviceSerialNumber: session.deviceSerialNumber,
+    testedAt: details.testedAt,
+    timeZone: details.timeZone,
+    ageYears: details.ageYears,
+    heightCm: details.heightCm,
+    weightKg: details.weightKg,
+    sex: details.sex,
+    technicianCode: details.technicianCode,
+    deviceManufacturer: details.deviceManufacturer,
+    deviceModel: details.deviceModel,
+    deviceSerialNumber: details.deviceSerialNumber,
     lock: { scope: lock.scope, lockedAt: lock.lockedAt },
     effortCount,
     read: { id: read.id, kind: read.kind, signerName: read.signerName, signedAt: read.signedAt, result },

@@ -51,6 +51,7 @@ import {
   finalReadOf,
   releaseBlockers,
   sessionsInScope,
+  type SessionHead,
   type SignedReadHead,
 } from './release-scope.js';
 import { releaseSource, type Snapshot } from './release-source.js';
@@ -321,7 +322,15 @@ export class ReleaseService {
             storeFailure ??= error;
           });
       };
-      const context = { folder, study: studyFacts, releaseId: order.releaseId, dataCutAt: order.dataCutAt, dataAsOf: asOf, signer: signature, caution: RELEASE_CAUTION };
+      const context = {
+        folder,
+        study: studyFacts,
+        releaseId: order.releaseId,
+        dataCutAt: order.dataCutAt,
+        dataAsOf: asOf,
+        signer: signature,
+        caution: RELEASE_CAUTION,
+      };
       const source = releaseSource(this.repository, study.code, snapshot, MAX_EFFORTS_KEPT);
       // The workbook is written beside the data files (on another thread when it can), and the
       // progress bar follows both: each pass over the sessions is one share of the build.
@@ -355,8 +364,7 @@ export class ReleaseService {
       await storing;
       if (storeFailure) throw storeFailure;
       job.percent = 99;
-      const now = this.snapshot(order.studyId, order.scope);
-      if (dataFingerprint(now.sessions, now.finalReads) !== order.dataFingerprint) {
+      if (this.fingerprintNow(order.studyId, order.scope) !== order.dataFingerprint) {
         throw new ReleaseProblem('The released data changed while the files were being written (a session was unlocked and changed); ask for the release again.');
       }
       job.phase = 'Writing the manifest';
@@ -368,7 +376,9 @@ export class ReleaseService {
         dataAsOf: asOf,
         completedAt: this.clock().toISOString(),
         counts: outcome.counts,
-        files: files.map((file) => ({ name: file.name, contentType: file.contentType, sizeBytes: file.digest.sizeBytes, sha256: file.digest.sha256 })),
+        files: files
+          .map((file) => ({ name: file.name, contentType: file.contentType, sizeBytes: file.digest.sizeBytes, sha256: file.digest.sha256 }))
+          .sort((a, b) => (a.name < b.name ? -1 : 1)),
         caution: RELEASE_CAUTION,
       };
       const text = manifestText(manifest);
@@ -391,7 +401,10 @@ export class ReleaseService {
       job.phase = 'Done';
       job.percent = 100;
     } catch (error) {
-      const message = error instanceof ReleaseProblem || error instanceof AppError ? error.message : 'The release could not be built (an unexpected error; see the server log).';
+      const message =
+        error instanceof ReleaseProblem || error instanceof AppError
+          ? error.message
+          : 'The release could not be built (an unexpected error; see the server log).';
       this.logger.error({ err: error, releaseId: order.releaseId }, 'release failed');
       job.status = 'failed';
       job.phase = 'Failed';
@@ -490,6 +503,25 @@ export class ReleaseService {
   /** The scope's sessions with their locks, final reads (with a stored result) and effort counts. */
   private snapshot(studyId: string, scope: ReleaseScope): Snapshot {
     const sessions = sessionsInScope(this.repository.sessionHeads(studyId), scope);
+    const finalReads = new Map<string, SignedReadHead>();
+    const results = new Map<string, ReleaseReadResult>();
+    for (const [sessionId, read] of this.finalReads(studyId, sessions)) {
+      const result = read.resultJson ? readResultSchema.safeParse(JSON.parse(read.resultJson)) : undefined;
+      // A signed read without its stored result is not a final read a release can use.
+      if (!result?.success) continue;
+      finalReads.set(sessionId, { ...read, resultJson: null });
+      results.set(read.id, result.data);
+    }
+    return { sessions, locks: this.repository.activeLocks(studyId), finalReads, results, effortCounts: this.repository.effortCounts(studyId) };
+  }
+
+  /** The fingerprint of the scope's data now, to compare with the one the release was ordered with. */
+  private fingerprintNow(studyId: string, scope: ReleaseScope): string {
+    const sessions = sessionsInScope(this.repository.sessionHeads(studyId), scope);
+    return dataFingerprint(sessions, this.finalReads(studyId, sessions));
+  }
+
+  private finalReads(studyId: string, sessions: readonly SessionHead[]): Map<string, SignedReadHead> {
     const readsBySession = new Map<string, SignedReadHead[]>();
     for (const read of this.repository.signedReads(studyId)) {
       const list = readsBySession.get(read.sessionId) ?? [];
@@ -497,18 +529,12 @@ export class ReleaseService {
       readsBySession.set(read.sessionId, list);
     }
     const finalReads = new Map<string, SignedReadHead>();
-    const results = new Map<string, ReleaseReadResult>();
     for (const session of sessions) {
       const read = finalReadOf(session, readsBySession.get(session.id) ?? []);
-      const result = read?.resultJson ? readResultSchema.safeParse(JSON.parse(read.resultJson)) : undefined;
-      // A signed read without its stored result is not a final read a release can use.
-      if (!read || !result?.success) continue;
-      finalReads.set(session.id, read);
-      results.set(read.id, result.data);
+      if (read) finalReads.set(session.id, read);
     }
-    return { sessions, locks: this.repository.activeLocks(studyId), finalReads, results, effortCounts: this.repository.effortCounts(studyId) };
+    return finalReads;
   }
-
 }
 
 /** A release that cannot complete for a reason the data manager can act on. */

@@ -30,13 +30,17 @@ export function releaseSource(repository: ReleaseRepository, studyCode: string, 
     for (let start = 0; start < snapshot.sessions.length; start += SESSIONS_PER_BATCH) {
       const batch = snapshot.sessions.slice(start, start + SESSIONS_PER_BATCH);
       const reads = batch.map((session) => snapshot.finalReads.get(session.id)!);
+      const details = repository.sessionDetails(batch.map((session) => session.id));
       const efforts = withEfforts ? repository.effortsOfUploads(reads.map((finalRead) => finalRead.uploadId)) : undefined;
       const verdicts = withEfforts ? repository.verdictsOfReads(reads.map((finalRead) => finalRead.id)) : undefined;
       for (const [index, session] of batch.entries()) {
         const finalRead = reads[index];
+        const sessionDetails = details.get(session.id);
+        if (!sessionDetails) throw new Error(`Session ${session.id} is no longer in the database`);
         yield assembleSession(
           studyCode,
           session,
+          sessionDetails,
           coveringLock(snapshot.locks, session)!,
           finalRead,
           snapshot.results.get(finalRead.id)!,

@@ -59,7 +59,13 @@ export function startWorkbook(
     try {
       const entry = new URL(import.meta.url).href;
       const boot = `import('tsx/esm/api').then(({ register }) => { register(); return import(${JSON.stringify(entry)}); })`;
-      worker = new Worker(boot, { eval: true, workerData: { ...task, task: WORKBOOK_TASK } satisfies WorkbookTask });
+      worker = new Worker(boot, {
+        eval: true,
+        workerData: { ...task, task: WORKBOOK_TASK } satisfies WorkbookTask,
+        // Small heap limits make the worker collect its garbage early instead of growing: its live
+        // data is the snapshot (about 2 KB a session) and one batch of sessions at a time.
+        resourceLimits: { maxYoungGenerationSizeMb: 8, maxOldGenerationSizeMb: 64 + Math.ceil(task.snapshot.sessions.length / 250) },
+      });
     } catch (error) {
       logger.warn({ err: error }, 'the workbook worker could not start; writing the workbook on this thread');
       fallback().then(resolve, reject);

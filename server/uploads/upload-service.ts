@@ -109,6 +109,7 @@ export class UploadService {
   /** Runs the check again on a stored rejected file (after a correction or a new engine version). */
   async reprocess(actor: AuditActor, studyId: string, sessionId: string, uploadId: string, scope: SiteScope): Promise<UploadResult> {
     const session = this.sessionService.requireSession(studyId, sessionId, scope);
+    this.sessionService.assertWritable(session);
     const upload = this.sessions.findUpload(uploadId);
     if (!upload || upload.sessionId !== sessionId) throw AppError.notFound('There is no such file in this session.');
     if (upload.outcome !== 'rejected') {

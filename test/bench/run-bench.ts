@@ -22,6 +22,7 @@ import {
 import { generateEffort, generateSession, type EffortSpec } from '../../shared/spirometry/synthetic/curve-generator.js';
 import { ingestBenchmarkRows } from './ingest-bench.js';
 import { auditChainBenchmarkRows } from './audit-chain-bench.js';
+import { releaseBenchmarkRows } from './release-bench.js';
 
 setFlagsFromString('--expose-gc');
 const collectGarbage = runInNewContext('gc') as () => void;
@@ -187,6 +188,7 @@ rows.push(['heap after 10k more efforts (100 Hz, after GC)', mib(heap10k), 'flat
 
 rows.push(...(await ingestBenchmarkRows(number)));
 rows.push(...(await auditChainBenchmarkRows(number)));
+rows.push(...(await releaseBenchmarkRows(number)));
 
 const table = [
   '| figure | value | goal | ratio to baseline |',

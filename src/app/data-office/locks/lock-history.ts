@@ -44,7 +44,15 @@ export class LockHistory {
   protected readonly draft = linkedSignal<UnlockDraft | null>(() => this.resumed());
   protected readonly canUnlock = computed(() => !this.busy() && (this.draft()?.reason.trim().length ?? 0) >= MIN_REASON_LENGTH);
 
-  protected readonly scopeLabels = LOCK_SCOPE_LABELS;
+
+
+  /** The scope in words; the facts template's context is untyped, so the lookup is typed here. */
+
+  protected scopeLabel(lock: LockView): string {
+
+    return LOCK_SCOPE_LABELS[lock.scope];
+
+  }
   protected readonly signatureLine = signatureLine;
   protected readonly utcText = utcText;
   protected readonly minReasonLength = MIN_REASON_LENGTH;
