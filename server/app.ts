@@ -132,8 +132,8 @@ export function createApp(deps: AppDependencies): { app: Express; registry: ApiR
   const studies = new StudyService(studyRepository);
   const audit = new AuditTrail(new AuditRepository(db), clock);
   const sessionRepository = new SessionRepository(db);
-  const lockRepository = new LockRepository(db); // locks
-  const lockGuard = new LockGuard(lockRepository); // locks
+  const lockRepository = new LockRepository(db);
+  const lockGuard = new LockGuard(lockRepository);
   const sessions = new SessionService(sessionRepository, studyRepository, audit, clock, lockGuard);
   const messages = new MessageService(new MessageRepository(db), users, mailer, () => config.publicUrl, clock, logger);
   const calibrationRepository = new CalibrationRepository(db);
@@ -197,7 +197,7 @@ export function createApp(deps: AppDependencies): { app: Express; registry: ApiR
   // ── locks ──
   const locks = new LockService(lockRepository, signatures, (scope) => queries.openQueryCount(scope), audit, clock);
   // ── end locks ──
-  const releases = createReleaseService(deps, { audit, messages, signatures, clock }); // releases
+  const releases = createReleaseService(deps, { audit, messages, signatures, clock });
   const health = new HealthService(
     {
       database: () => pingDatabase(db),
@@ -282,10 +282,10 @@ export function createApp(deps: AppDependencies): { app: Express; registry: ApiR
   app.use(readingRoutes(registry, readQueue, reading));
   app.use(adjudicationRoutes(registry, adjudication)); // dual reading
   app.use(agreementRoutes(registry, adjudication)); // dual reading
-  app.use(auditTrailQueryRoutes(registry, auditTrailQuery)); // oversight
-  app.use(performanceRoutes(registry, performance)); // oversight
-  app.use(lockRoutes(registry, locks)); // locks
-  app.use(releaseRoutes(registry, releases)); // releases
+  app.use(auditTrailQueryRoutes(registry, auditTrailQuery));
+  app.use(performanceRoutes(registry, performance));
+  app.use(lockRoutes(registry, locks));
+  app.use(releaseRoutes(registry, releases));
   app.use(['/api', '/auth'], apiNotFound);
 
   serveWebClient(app, config.webDir);
