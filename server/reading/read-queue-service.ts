@@ -3,6 +3,7 @@ import type { AuditTrail } from '../audit/audit-trail.js';
 import type { Principal } from '../auth/principal.js';
 import { AppError } from '../http/app-error.js';
 import { studyActor } from '../http/access.js';
+import { lockCovers } from '../locks/lock-scope.js';
 import type { SessionRepository } from '../sessions/session-repository.js';
 import type { StudyRepository, StudyRow } from '../studies/study-repository.js';
 import { needsDualRead } from './dual-read-rules.js';
@@ -26,8 +27,10 @@ interface OpenSession {
   readonly row: QueueCandidateRow;
   readonly kind: 'first' | 'second';
   readonly dueAt: string;
-  readonly token: string;
 }
+
+/** Queue items returned at once; the total says how many more wait. */
+const QUEUE_PAGE_SIZE = 200;
 
 /**
  * The reader's queue (blinded, oldest due first, opaque per-reader tokens) and claims from it.
@@ -51,11 +54,12 @@ export class ReadQueueService {
     const blinding = readerBlinding(study.blindingJson);
     const now = this.clock().getTime();
     const open = this.openSessionsFor(principal.user.id, study).sort(
-      (a, b) => a.dueAt.localeCompare(b.dueAt) || a.token.localeCompare(b.token),
+      (a, b) => a.dueAt.localeCompare(b.dueAt) || a.row.session.id.localeCompare(b.row.session.id),
     );
+    // A reader works from the top of the queue: the oldest due sessions, with the total beside them.
     return {
-      items: open.map(({ row, kind, dueAt, token }) => ({
-        queueToken: token,
+      items: open.slice(0, QUEUE_PAGE_SIZE).map(({ row, kind, dueAt }) => ({
+        queueToken: this.tokens.tokenFor(principal.user.id, row.session.id),
         kind,
         visitCode: blinding.showVisit ? row.visitCode : null,
         timepointCode: blinding.showTimepoint ? row.timepointCode : null,
@@ -135,17 +139,15 @@ export class ReadQueueService {
       readsBySession.set(read.sessionId, [...(readsBySession.get(read.sessionId) ?? []), read]);
     }
     const open: OpenSession[] = [];
+    const locks = this.sessions.activeLocksOfStudy(study.id);
     for (const row of this.repository.candidateSessions(study.id, AWAITING_READ_STATUSES)) {
       const reads = readsBySession.get(row.session.id) ?? [];
       const dualRead = effectiveDualRead(row.session.dualRead, liveOverReads(reads).length, () => needsDualRead(study, row.session.id));
       const eligibility = readEligibility({ status: row.session.status, dualRead }, reads, readerId);
-      if (!eligibility.eligible || this.sessions.activeLockOn(row.session)) continue;
-      open.push({
-        row,
-        kind: eligibility.kind,
-        dueAt: readDueAt(row.checkedAt, study.turnaroundHours),
-        token: this.tokens.tokenFor(readerId, row.session.id),
-      });
+      const { session } = row;
+      const target = { studyId: study.id, siteId: session.siteId, subjectId: session.subjectId, visitId: session.visitId, sessionId: session.id };
+      if (!eligibility.eligible || locks.some((lock) => lockCovers(lock, target))) continue;
+      open.push({ row, kind: eligibility.kind, dueAt: readDueAt(row.checkedAt, study.turnaroundHours) });
     }
     return open;
   }

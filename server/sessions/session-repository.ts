@@ -226,6 +226,15 @@ export class SessionRepository {
       .get();
   }
 
+  /** Every active lock of a study, to test many sessions against in memory. */
+  activeLocksOfStudy(studyId: string): LockRow[] {
+    return this.db
+      .select()
+      .from(dataLocks)
+      .where(and(eq(dataLocks.studyId, studyId), isNull(dataLocks.unlockedAt)))
+      .all();
+  }
+
   insertLock(row: typeof dataLocks.$inferInsert): void {
     this.db.insert(dataLocks).values(row).run();
   }

@@ -23,6 +23,8 @@ import { generateEffort, generateSession, type EffortSpec } from '../../shared/s
 import { ingestBenchmarkRows } from './ingest-bench.js';
 import { auditChainBenchmarkRows } from './audit-chain-bench.js';
 import { releaseBenchmarkRows } from './release-bench.js';
+import { queueBenchmarkRows } from './queue-bench.js';
+import { curvesBenchmarkRows } from './curves-bench.js';
 
 setFlagsFromString('--expose-gc');
 const collectGarbage = runInNewContext('gc') as () => void;
@@ -189,6 +191,8 @@ rows.push(['heap after 10k more efforts (100 Hz, after GC)', mib(heap10k), 'flat
 rows.push(...(await ingestBenchmarkRows(number)));
 rows.push(...(await auditChainBenchmarkRows(number)));
 rows.push(...(await releaseBenchmarkRows(number)));
+rows.push(...(await queueBenchmarkRows(number)));
+rows.push(...(await curvesBenchmarkRows(number)));
 
 const table = [
   '| figure | value | goal | ratio to baseline |',
