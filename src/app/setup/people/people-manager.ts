@@ -1,4 +1,4 @@
-import { ChangeDetectionStrategy, Component, DestroyRef, computed, inject, signal, viewChild } from '@angular/core';
+import { ChangeDetectionStrategy, Component, DestroyRef, computed, inject, viewChild } from '@angular/core';
 import { takeUntilDestroyed, toSignal } from '@angular/core/rxjs-interop';
 import { FormGroupDirective, NonNullableFormBuilder, ReactiveFormsModule, Validators, type AbstractControl } from '@angular/forms';
 import { MatButton } from '@angular/material/button';
@@ -6,17 +6,17 @@ import { MatError, MatFormField, MatHint, MatLabel } from '@angular/material/for
 import { MatIcon } from '@angular/material/icon';
 import { MatInput } from '@angular/material/input';
 import { MatOption, MatSelect } from '@angular/material/select';
-import { finalize, type Observable } from 'rxjs';
+import type { Observable } from 'rxjs';
 
 import { roleSchema, type Role } from '@shared/contracts/auth';
 import type { AddPerson, Person } from '@shared/contracts/setup';
 import type { Site } from '@shared/contracts/studies';
 import { AuthSession } from '../../core/auth/auth-session';
 import { ROLE_LABELS } from '../../core/auth/role-labels';
-import { ApiError } from '../../core/http/api-error';
 import { SetupApi } from '../setup-api';
 import { ReasonPrompt } from '../study-editor/reason-dialog/reason-prompt';
-import { fieldErrorText, showServerFieldErrors } from '../study-editor/server-field-errors';
+import { fieldErrorText } from '../study-editor/server-field-errors';
+import { SetupFormWrite } from '../study-editor/setup-form-write';
 import { StudyEditorContext } from '../study-editor/study-editor-context';
 
 /**
@@ -56,10 +56,10 @@ export class PeopleManager {
   /** Whether the chosen role works per site (and so needs sites). */
   protected readonly needsSites = computed(() => this.chosenRole() === 'site-coordinator');
 
-  /** Whether a change is being sent. */
-  protected readonly saving = signal(false);
-  protected readonly problem = signal('');
-  protected readonly saved = signal('');
+  private readonly formWrite = new SetupFormWrite(this.form);
+  protected readonly saving = this.formWrite.saving;
+  protected readonly problem = this.formWrite.problem;
+  protected readonly saved = this.formWrite.saved;
 
   protected roleLabel(role: Role): string {
     return ROLE_LABELS[role];
@@ -130,30 +130,13 @@ export class PeopleManager {
   }
 
   private write<T>(send: (reason: string | undefined) => Observable<T>, done: (result: T) => void): void {
-    this.clearMessages();
-    this.saving.set(true);
-    this.prompt
-      .send(send)
-      .pipe(
-        finalize(() => this.saving.set(false)),
-        takeUntilDestroyed(this.destroyRef),
-      )
-      .subscribe({
-        next: (result) => {
-          done(result);
-          this.people.reload();
-        },
-        error: (error: unknown) => {
-          // ApiError: a duplicate role, a site of another study, the last admin...; the server's words are shown.
-          if (!(error instanceof ApiError)) throw error;
-          showServerFieldErrors(this.form, error);
-          this.problem.set(error.message);
-        },
-      });
+    this.formWrite.send(send, (result) => {
+      done(result);
+      this.people.reload();
+    });
   }
 
   private clearMessages(): void {
-    this.problem.set('');
-    this.saved.set('');
+    this.formWrite.clear();
   }
 }

@@ -1,5 +1,5 @@
-import { ChangeDetectionStrategy, Component, DestroyRef, computed, inject, signal, viewChild } from '@angular/core';
-import { takeUntilDestroyed, toSignal } from '@angular/core/rxjs-interop';
+import { ChangeDetectionStrategy, Component, computed, inject, signal, viewChild } from '@angular/core';
+import { toSignal } from '@angular/core/rxjs-interop';
 import { FormGroupDirective, NonNullableFormBuilder, ReactiveFormsModule, Validators, type AbstractControl } from '@angular/forms';
 import { MatAutocomplete, MatAutocompleteTrigger } from '@angular/material/autocomplete';
 import { MatButton } from '@angular/material/button';
@@ -7,14 +7,13 @@ import { MatOption } from '@angular/material/core';
 import { MatError, MatFormField, MatHint, MatLabel } from '@angular/material/form-field';
 import { MatIcon } from '@angular/material/icon';
 import { MatInput } from '@angular/material/input';
-import { finalize, type Observable } from 'rxjs';
+import type { Observable } from 'rxjs';
 
 import type { SiteInput } from '@shared/contracts/setup';
 import type { Site } from '@shared/contracts/studies';
-import { ApiError } from '../../core/http/api-error';
 import { SetupApi } from '../setup-api';
-import { ReasonPrompt } from '../study-editor/reason-dialog/reason-prompt';
-import { fieldErrorText, showServerFieldErrors } from '../study-editor/server-field-errors';
+import { fieldErrorText } from '../study-editor/server-field-errors';
+import { SetupFormWrite } from '../study-editor/setup-form-write';
 import { StudyEditorContext } from '../study-editor/study-editor-context';
 import { countryNameOf, matchingTimeZones } from './site-fields';
 
@@ -40,8 +39,6 @@ import { countryNameOf, matchingTimeZones } from './site-fields';
 })
 export class SiteManager {
   private readonly api = inject(SetupApi);
-  private readonly prompt = inject(ReasonPrompt);
-  private readonly destroyRef = inject(DestroyRef);
   private readonly context = inject(StudyEditorContext);
   /** Resetting through the directive also forgets the submission, so a cleared form shows no errors. */
   private readonly formDirective = viewChild.required(FormGroupDirective);
@@ -64,10 +61,10 @@ export class SiteManager {
   protected readonly editing = signal<Site | null>(null);
   /** The site whose removal waits for confirmation. */
   protected readonly confirmingRemoval = signal<string | null>(null);
-  /** Whether a change is being sent. */
-  protected readonly saving = signal(false);
-  protected readonly problem = signal('');
-  protected readonly saved = signal('');
+  private readonly formWrite = new SetupFormWrite(this.form);
+  protected readonly saving = this.formWrite.saving;
+  protected readonly problem = this.formWrite.problem;
+  protected readonly saved = this.formWrite.saved;
 
   protected fieldError(control: AbstractControl, label: string): string {
     if (control.errors?.['pattern'] && label === 'country') return 'Use the two-letter ISO code, such as NO, ES or CA.';
@@ -126,30 +123,13 @@ export class SiteManager {
   }
 
   private write<T>(send: (reason: string | undefined) => Observable<T>, done: (result: T) => void): void {
-    this.clearMessages();
-    this.saving.set(true);
-    this.prompt
-      .send(send)
-      .pipe(
-        finalize(() => this.saving.set(false)),
-        takeUntilDestroyed(this.destroyRef),
-      )
-      .subscribe({
-        next: (result) => {
-          done(result);
-          this.sites.reload();
-        },
-        error: (error: unknown) => {
-          // ApiError: a taken number, an unknown zone, a site with data...; the server's words are shown.
-          if (!(error instanceof ApiError)) throw error;
-          showServerFieldErrors(this.form, error);
-          this.problem.set(error.message);
-        },
-      });
+    this.formWrite.send(send, (result) => {
+      done(result);
+      this.sites.reload();
+    });
   }
 
   private clearMessages(): void {
-    this.problem.set('');
-    this.saved.set('');
+    this.formWrite.clear();
   }
 }

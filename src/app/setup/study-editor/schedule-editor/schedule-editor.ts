@@ -1,18 +1,15 @@
-import { ChangeDetectionStrategy, Component, DestroyRef, effect, inject, signal, untracked } from '@angular/core';
-import { takeUntilDestroyed } from '@angular/core/rxjs-interop';
+import { ChangeDetectionStrategy, Component, effect, inject, untracked } from '@angular/core';
 import { NonNullableFormBuilder, ReactiveFormsModule, Validators, type AbstractControl } from '@angular/forms';
 import { MatButton, MatIconButton } from '@angular/material/button';
 import { MatError, MatFormField, MatLabel } from '@angular/material/form-field';
 import { MatIcon } from '@angular/material/icon';
 import { MatInput } from '@angular/material/input';
-import { finalize } from 'rxjs';
 
 import type { Schedule } from '@shared/contracts/sessions';
 import type { ScheduleUpdate } from '@shared/contracts/setup';
-import { ApiError } from '../../../core/http/api-error';
 import { SetupApi } from '../../setup-api';
-import { ReasonPrompt } from '../reason-dialog/reason-prompt';
-import { fieldErrorText, showServerFieldErrors } from '../server-field-errors';
+import { fieldErrorText } from '../server-field-errors';
+import { SetupFormWrite } from '../setup-form-write';
 import { StudyEditorContext } from '../study-editor-context';
 
 type VisitValue = Schedule['visits'][number];
@@ -36,8 +33,6 @@ const WINDOW_VALIDATORS = [Validators.required, Validators.min(0), Validators.pa
 })
 export class ScheduleEditor {
   private readonly api = inject(SetupApi);
-  private readonly prompt = inject(ReasonPrompt);
-  private readonly destroyRef = inject(DestroyRef);
   private readonly fb = inject(NonNullableFormBuilder);
   private readonly context = inject(StudyEditorContext);
 
@@ -47,10 +42,10 @@ export class ScheduleEditor {
     timepoints: this.fb.array([this.timepointGroup()]),
   });
 
-  /** Whether the schedule is being sent. */
-  protected readonly saving = signal(false);
-  protected readonly problem = signal('');
-  protected readonly saved = signal('');
+  private readonly formWrite = new SetupFormWrite(this.form);
+  protected readonly saving = this.formWrite.saving;
+  protected readonly problem = this.formWrite.problem;
+  protected readonly saved = this.formWrite.saved;
 
   constructor() {
     effect(() => {
@@ -121,28 +116,11 @@ export class ScheduleEditor {
       })),
       timepoints: value.timepoints.map((timepoint) => ({ code: timepoint.code.trim(), name: timepoint.name.trim() })),
     };
-    this.problem.set('');
-    this.saved.set('');
-    this.saving.set(true);
-    this.prompt
-      .send((reason) => this.api.updateSchedule(studyId, { ...body, reason }))
-      .pipe(
-        finalize(() => this.saving.set(false)),
-        takeUntilDestroyed(this.destroyRef),
-      )
-      .subscribe({
-        next: (schedule) => {
-          this.schedule.set(schedule);
-          this.saved.set('Schedule saved.');
-          this.context.setup.reload();
-        },
-        error: (error: unknown) => {
-          // ApiError: overlapping windows, a duplicate code, a visit in use...; the server's words are shown.
-          if (!(error instanceof ApiError)) throw error;
-          showServerFieldErrors(this.form, error);
-          this.problem.set(error.message);
-        },
-      });
+    this.formWrite.send((reason) => this.api.updateSchedule(studyId, { ...body, reason }), (schedule) => {
+      this.schedule.set(schedule);
+      this.saved.set('Schedule saved.');
+      this.context.setup.reload();
+    });
   }
 
   private showSchedule(schedule: Schedule): void {

@@ -1,4 +1,4 @@
-import { ChangeDetectionStrategy, Component, DestroyRef, computed, effect, inject, signal, untracked } from '@angular/core';
+import { ChangeDetectionStrategy, Component, computed, effect, inject, untracked } from '@angular/core';
 import { takeUntilDestroyed } from '@angular/core/rxjs-interop';
 import { NonNullableFormBuilder, ReactiveFormsModule, Validators, type AbstractControl, type ValidationErrors } from '@angular/forms';
 import { MatButton } from '@angular/material/button';
@@ -7,13 +7,11 @@ import { MatError, MatFormField, MatHint, MatLabel, MatSuffix } from '@angular/m
 import { MatInput } from '@angular/material/input';
 import { MatRadioButton, MatRadioGroup } from '@angular/material/radio';
 import { MatOption, MatSelect } from '@angular/material/select';
-import { finalize } from 'rxjs';
 
 import { MAX_TURNAROUND_HOURS, type ReadDesign, type StudySetup, type StudySetupUpdate } from '@shared/contracts/setup';
-import { ApiError } from '../../../core/http/api-error';
 import { SetupApi } from '../../setup-api';
-import { ReasonPrompt } from '../reason-dialog/reason-prompt';
-import { fieldErrorText, showServerFieldErrors } from '../server-field-errors';
+import { fieldErrorText } from '../server-field-errors';
+import { SetupFormWrite } from '../setup-form-write';
 import { StudyEditorContext } from '../study-editor-context';
 
 /** Separates rule-set id and version in the select's value; `latest` follows new versions. */
@@ -56,8 +54,6 @@ function dualSampleFractionValidator(control: AbstractControl<number | null>): V
 })
 export class StudySettings {
   private readonly api = inject(SetupApi);
-  private readonly prompt = inject(ReasonPrompt);
-  private readonly destroyRef = inject(DestroyRef);
   protected readonly context = inject(StudyEditorContext);
 
   protected readonly readDesigns = READ_DESIGNS;
@@ -95,10 +91,10 @@ export class StudySettings {
     });
   });
 
-  /** Whether the change is being sent. */
-  protected readonly saving = signal(false);
-  protected readonly problem = signal('');
-  protected readonly saved = signal('');
+  private readonly formWrite = new SetupFormWrite(this.form);
+  protected readonly saving = this.formWrite.saving;
+  protected readonly problem = this.formWrite.problem;
+  protected readonly saved = this.formWrite.saved;
 
   constructor() {
     effect(() => {
@@ -136,27 +132,10 @@ export class StudySettings {
       blinding: value.blinding,
       turnaroundHours: value.turnaroundHours ?? 0,
     };
-    this.problem.set('');
-    this.saved.set('');
-    this.saving.set(true);
-    this.prompt
-      .send((reason) => this.api.updateSetup(studyId, { ...body, reason }))
-      .pipe(
-        finalize(() => this.saving.set(false)),
-        takeUntilDestroyed(this.destroyRef),
-      )
-      .subscribe({
-        next: (setup) => {
-          this.context.replaceSetup(setup);
-          this.saved.set('Study settings saved.');
-        },
-        error: (error: unknown) => {
-          // ApiError: the server refused the change and says why; anything else is unexpected.
-          if (!(error instanceof ApiError)) throw error;
-          showServerFieldErrors(this.form, error);
-          this.problem.set(error.message);
-        },
-      });
+    this.formWrite.send((reason) => this.api.updateSetup(studyId, { ...body, reason }), (setup) => {
+      this.context.replaceSetup(setup);
+      this.saved.set('Study settings saved.');
+    });
   }
 
   private showSetup(setup: StudySetup): void {
