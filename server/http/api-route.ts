@@ -115,6 +115,12 @@ function fileReceiver(spec: FileUploadSpec) {
           next(multerProblem(error, spec));
           return;
         }
+        // Anything else multer passes on is busboy refusing the body (cut short, no boundary, a part
+        // without headers, not multipart/form-data): the request's fault, not the server's.
+        if (error instanceof Error) {
+          next(AppError.badRequest(`The upload could not be read as multipart/form-data: ${error.message}.`, undefined, 'upload-malformed'));
+          return;
+        }
         next(error);
       });
     },

@@ -125,6 +125,17 @@ export class PeopleService {
     if (userId === actor.userId) {
       throw AppError.conflict('You cannot deactivate your own account; ask another study admin.', undefined, 'cannot-deactivate-self');
     }
+    // An account is global: an admin may switch it off only when every study it serves is theirs,
+    // or an admin of one study could shut a person out of all the others.
+    const administered = new Set(this.repository.studiesAdministeredBy(actor.userId).map((row) => row.id));
+    const elsewhere = this.repository.studyIdsOf(userId).filter((id) => !administered.has(id));
+    if (elsewhere.length > 0) {
+      throw AppError.forbidden(
+        `${user.name} also holds roles in ${elsewhere.length === 1 ? 'a study' : `${elsewhere.length} studies`} you do not administer; ` +
+          'remove their roles in this study instead, or ask the admins of the other studies.',
+        'account-used-elsewhere',
+      );
+    }
     if (user.active) {
       this.refuseLastAdmin(user, this.repository.studiesAdministeredBy(userId));
       this.audit.write(actor, (record) => {

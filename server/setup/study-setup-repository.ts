@@ -178,6 +178,16 @@ export class StudySetupRepository {
   }
 
   /** Studies in which the user holds the study-admin role. */
+  /** Ids of every study in which the user holds any role. */
+  studyIdsOf(userId: string): string[] {
+    return this.db
+      .selectDistinct({ studyId: roleAssignments.studyId })
+      .from(roleAssignments)
+      .where(eq(roleAssignments.userId, userId))
+      .all()
+      .map((row) => row.studyId);
+  }
+
   studiesAdministeredBy(userId: string): StudyRow[] {
     return this.db
       .selectDistinct({ study: studies })

@@ -59,6 +59,11 @@ describe('parseEffortCsv (effort CSV: time_s with volume_l or flow_l_s)', () => 
     ['missing sample', csv('time_s,volume_l').replace('0.050,0.0050\n', ''), 'csv-time-uniform', /not uniform: the interval ending on row 7 is 20\.000 ms/, { row: 7 }],
     ['too slow (50 Hz)', csv('time_s,volume_l', 2, 50), 'sample-rate', /50\.0 Hz is below the minimum of 100 Hz/, {}],
     ['too short (0.5 s)', csv('time_s,volume_l', 0.5), 'too-few-samples', /51 rows covering 0\.500 s; a recording must cover at least 1 s/, {}],
+
+    // Limits of sample-limits.ts (common practice); a sample near the top of the double range once hung the engine.
+    ['a volume near the top of the double range', csv('time_s,volume_l').replace('0.050,0.0050', '0.050,1.7e308'), 'csv-range', /row 7, column volume_l: 1\.7e308 L is beyond the ±100 L/, { row: 7, column: 'volume_l' }],
+    ['a flow beyond 100 L/s', csv('time_s,flow_l_s').replace('0.050,0.0050', '0.050,-150'), 'csv-range', /row 7, column flow_l_s: -150 L\/s is beyond the ±100 L\/s/, { row: 7, column: 'flow_l_s' }],
+    ['a time beyond 1e10 s', csv('time_s,volume_l').replace('0.050,0.0050', '2e10,0.0050'), 'csv-range', /row 7, column time_s: 2e10 s is beyond/, { row: 7, column: 'time_s' }],
   ];
 
   it.each(bad)('rejects %s', (_name, text, code, message, location) => {

@@ -1,4 +1,5 @@
 import { type Recording, type SignalKind, SpirometryInputError } from './model.js';
+import { MAX_SAMPLE_MAGNITUDE, MAX_TIME_MAGNITUDE_S } from './sample-limits.js';
 import { toFloat64Array } from './signal.js';
 
 /** Limits applied while reading an effort CSV. */
@@ -32,7 +33,8 @@ const ACCEPTED_HEADER_LIST = Object.keys(ACCEPTED_HEADERS)
  * mark, CRLF line ends, spaces around cells and trailing blank lines; anything else
  * is a {@link SpirometryInputError} naming the file, the row (1-based line of the file)
  * and the column. Codes: `csv-empty`, `csv-header`, `csv-columns`, `csv-number`,
- * `csv-non-finite`, `csv-time-order`, `csv-time-uniform`, `sample-rate`, `too-few-samples`.
+ * `csv-non-finite`, `csv-range` (beyond the limits of sample-limits.ts), `csv-time-order`,
+ * `csv-time-uniform`, `sample-rate`, `too-few-samples`.
  * Intervals may differ from the mean by 1 % plus the rounding of the printed times
  * (one unit of their last decimal, at most 30 % of the interval).
  */
@@ -101,6 +103,18 @@ export function parseEffortCsv(
     const valueCell = line.slice(comma + 1).trim();
     const timeS = readNumber(timeCell, lineNo, 'time_s', fail);
     const value = readNumber(valueCell, lineNo, valueColumn, fail);
+    if (Math.abs(timeS) > MAX_TIME_MAGNITUDE_S) {
+      fail('csv-range', `row ${lineNo}, column time_s: ${timeCell.slice(0, 40)} s is beyond the ±${MAX_TIME_MAGNITUDE_S} s a time may have`, lineNo, 'time_s');
+    }
+    if (Math.abs(value) > MAX_SAMPLE_MAGNITUDE) {
+      const unit = signal === 'volume' ? 'L' : 'L/s';
+      fail(
+        'csv-range',
+        `row ${lineNo}, column ${valueColumn}: ${valueCell.slice(0, 40)} ${unit} is beyond the ±${MAX_SAMPLE_MAGNITUDE} ${unit} any breath stays within`,
+        lineNo,
+        valueColumn,
+      );
+    }
     const dot = timeCell.indexOf('.');
     if (dot >= 0 && timeCell.indexOf('e') < 0 && timeCell.indexOf('E') < 0) {
       timeDecimals = Math.max(timeDecimals, timeCell.length - dot - 1);

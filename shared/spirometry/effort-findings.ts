@@ -335,7 +335,8 @@ function findSecondBlow(
   for (const [from, to] of ranges) {
     let i = from;
     while (i <= to) {
-      if (flowS[i] <= DETECTOR_TUNING.stillFlowLPerS) {
+      // Negated so that a NaN flow (an overflowed signal) also moves on instead of looping for ever.
+      if (!(flowS[i] > DETECTOR_TUNING.stillFlowLPerS)) {
         i++;
         continue;
       }

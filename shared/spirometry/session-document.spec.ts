@@ -50,6 +50,15 @@ describe('Tidemark session JSON (tidemark-session/1)', () => {
     expect(recordings[1].signal).toBe('flow');
   });
 
+  it('accepts samples of ±100 and start times of ±1e10 s, the limits of sample-limits.ts (common practice)', () => {
+    const doc = parseSessionDocument({
+      format: 'tidemark-session/1',
+      metadata: {},
+      efforts: [{ label: 'e1', signal: 'flow', sampleRateHz: 100, startTimeS: -1e10, values: [-100, 100] }],
+    });
+    expect(Array.from(sessionDocumentToRecordings(doc)[0].values)).toEqual([-100, 100]);
+  });
+
   it('accepts the minimum: format, empty metadata, one effort', () => {
     const doc = parseSessionDocument({ format: 'tidemark-session/1', metadata: {}, efforts: [{ label: 'e1', signal: 'volume', sampleRateHz: 100, values: [0, 0.1] }] });
     expect(doc.efforts).toHaveLength(1);
@@ -88,6 +97,20 @@ describe('Tidemark session JSON (tidemark-session/1)', () => {
     ['date without offset', (d) => ({ ...d, metadata: { testedAt: '2025-03-14T09:30:00' } }), 'session-json', /metadata\.testedAt: /],
     ['no efforts', (d) => ({ ...d, efforts: [] }), 'session-json', /efforts: /],
     ['unknown key (a name would be personal data)', (d) => ({ ...d, metadata: { subjectName: 'A' } }), 'session-json', /metadata: .*subjectName/],
+
+    // Limits of sample-limits.ts (common practice); a sample near the top of the double range once hung the engine.
+    [
+      'a sample near the top of the double range',
+      (d) => ({ ...d, efforts: [{ label: 'e1', signal: 'volume', sampleRateHz: 100, values: [0, 1.7e308, 1] }] }),
+      'session-json',
+      /efforts\[0\]\.values\[1\]: a sample lies within ±100 \(L or L\/s\)/,
+    ],
+    [
+      'a start time beyond 1e10 s',
+      (d) => ({ ...d, efforts: [{ label: 'e1', signal: 'volume', sampleRateHz: 100, startTimeS: 1e15, values: [0, 1] }] }),
+      'session-json',
+      /efforts\[0\]\.startTimeS: a start time lies within/,
+    ],
   ];
 
   it.each(bad)('rejects %s with the path of the problem', (_name, change, code, message) => {

@@ -1,5 +1,6 @@
 import * as z from 'zod';
 import { type Recording, SpirometryInputError } from './model.js';
+import { MAX_SAMPLE_MAGNITUDE, MAX_TIME_MAGNITUDE_S } from './sample-limits.js';
 import { toFloat64Array } from './signal.js';
 
 /** Version tag of Tidemark's session JSON; a new, incompatible layout gets a new tag. */
@@ -45,6 +46,11 @@ export const sessionMetadataSchema = z
   })
   .strict();
 
+const sampleValue = z
+  .number()
+  .min(-MAX_SAMPLE_MAGNITUDE, `a sample lies within ±${MAX_SAMPLE_MAGNITUDE} (L or L/s)`)
+  .max(MAX_SAMPLE_MAGNITUDE, `a sample lies within ±${MAX_SAMPLE_MAGNITUDE} (L or L/s)`);
+
 /** One effort: one uniformly sampled signal, volume (L, expired positive) or flow (L/s, expiration positive). */
 export const sessionEffortSchema = z
   .object({
@@ -52,8 +58,12 @@ export const sessionEffortSchema = z
     signal: z.enum(['volume', 'flow']),
     sampleRateHz: z.number().positive().max(100_000),
     /** Time of the first sample (s); 0 when absent. */
-    startTimeS: z.number().optional(),
-    values: z.array(z.number()).min(2),
+    startTimeS: z
+      .number()
+      .min(-MAX_TIME_MAGNITUDE_S, `a start time lies within ±${MAX_TIME_MAGNITUDE_S} s`)
+      .max(MAX_TIME_MAGNITUDE_S, `a start time lies within ±${MAX_TIME_MAGNITUDE_S} s`)
+      .optional(),
+    values: z.array(sampleValue).min(2),
   })
   .strict();
 
@@ -79,7 +89,7 @@ export const sessionDocumentSchema = z
 /**
  * The same document with each effort's samples checked by one plain loop instead of a
  * schema call per number: it accepts exactly what {@link sessionDocumentSchema} accepts
- * (an array of at least 2 finite numbers) and keeps the array as it is, where the full
+ * (an array of at least 2 numbers within the sample limits) and keeps the array as it is, where the full
  * schema would copy it. Long recordings make the difference (12,000 samples an effort).
  */
 const sessionDocumentFastSchema = sessionDocumentSchema.extend({
@@ -90,7 +100,7 @@ function isSampleArray(value: unknown): value is number[] {
   if (!Array.isArray(value) || value.length < 2) return false;
   for (let i = 0; i < value.length; i++) {
     const sample: unknown = value[i];
-    if (typeof sample !== 'number' || !Number.isFinite(sample)) return false;
+    if (typeof sample !== 'number' || !(Math.abs(sample) <= MAX_SAMPLE_MAGNITUDE)) return false;
   }
   return true;
 }
