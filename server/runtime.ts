@@ -117,6 +117,9 @@ export async function startTidemark(
     closers.push(() => services.messages.settle());
     // Before the first request: files stored by requests that died before their commit are applied now.
     try {
+      // Before the sweep, whose own receipts would otherwise be sent twice.
+      const resent = services.messages.resendPending();
+      if (resent > 0) logger.warn({ resent }, 'sent e-mails left pending by a stopped process');
       const swept = await services.uploads.sweepOrphans();
       if (swept.applied + swept.discarded + swept.kept > 0) logger.warn(swept, 'reconciled uploads interrupted by a crash');
       await services.referenceSets.removeInterruptedImports();

@@ -24,14 +24,32 @@ async function probe(run: Probe): Promise<ComponentHealth> {
   }
 }
 
+/**
+ * How long one answer serves later callers. Each check opens connections to storage, the identity
+ * provider and the mail relay; under load, probing per request made a healthy server look degraded.
+ */
+export const HEALTH_ANSWER_REUSE_MS = 2000;
+
 /** Asks each service Tidemark depends on whether it answers. */
 export class HealthService {
+  private latest: { readonly at: number; readonly answer: Promise<HealthResponse> } | undefined;
+
   constructor(
     private readonly probes: { database: Probe; storage: Probe; identityProvider: Probe; mail: Probe },
     private readonly version: string,
+    private readonly nowMs: () => number = () => performance.now(),
   ) {}
 
-  async check(): Promise<HealthResponse> {
+  /** The services' state; callers within {@link HEALTH_ANSWER_REUSE_MS} of a check (or during it) share its answer. */
+  check(): Promise<HealthResponse> {
+    const now = this.nowMs();
+    if (this.latest && now - this.latest.at < HEALTH_ANSWER_REUSE_MS) return this.latest.answer;
+    const answer = this.probeAll();
+    this.latest = { at: now, answer };
+    return answer;
+  }
+
+  private async probeAll(): Promise<HealthResponse> {
     const [database, storage, identityProvider, mail] = await Promise.all([
       probe(this.probes.database),
       probe(this.probes.storage),

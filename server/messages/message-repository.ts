@@ -1,4 +1,4 @@
-import { desc, eq } from 'drizzle-orm';
+import { asc, desc, eq } from 'drizzle-orm';
 import type { TidemarkDatabase } from '../db/database.js';
 import { userMessages } from '../db/schema.js';
 
@@ -14,6 +14,11 @@ export class MessageRepository {
 
   markDelivery(id: string, delivery: 'sent' | 'failed', failure: string | null): void {
     this.db.update(userMessages).set({ delivery, failure }).where(eq(userMessages.id, id)).run();
+  }
+
+  /** Messages written but never sent (the process stopped between commit and delivery), oldest first. */
+  pending(): UserMessageRow[] {
+    return this.db.select().from(userMessages).where(eq(userMessages.delivery, 'pending')).orderBy(asc(userMessages.createdAt)).all();
   }
 
   latestFor(userId: string, limit: number): UserMessageRow[] {

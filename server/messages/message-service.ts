@@ -76,6 +76,18 @@ export class MessageService {
     this.inFlight.add(sending);
   }
 
+  /**
+   * Sends the messages a stopped process committed but never sent (a crash after the commit and
+   * before delivery). Run at start-up, before anything new is queued. Returns how many.
+   */
+  resendPending(): number {
+    const rows = this.repository.pending();
+    for (const row of rows) {
+      this.deliver({ id: row.id, to: row.toAddress, notice: { subject: row.subject, body: row.body, link: row.link ?? undefined } });
+    }
+    return rows.length;
+  }
+
   messagesOf(userId: string): UserMessage[] {
     return this.repository.latestFor(userId, 100).map((row) => ({
       id: row.id,

@@ -12,6 +12,7 @@ import type { AuditActor, AuditTrail } from '../audit/audit-trail.js';
 import { AppError } from '../http/app-error.js';
 import { siteInScope, type SiteScope } from '../http/access.js';
 import type { LockGuard } from '../locks/lock-guard.js';
+import { lockCovers } from '../locks/lock-scope.js';
 import type { StudyRepository } from '../studies/study-repository.js';
 import type { SessionRepository, SessionRow } from './session-repository.js';
 import { describeSession, toSessionDetail, toSessionSummary } from './session-views.js';
@@ -200,8 +201,12 @@ export class SessionService {
       throw AppError.forbidden('You are assigned to other sites of this study, not to this one.', 'site-out-of-scope');
     }
     const { rows, total } = this.sessions.pageOfSessions(studyId, scope.allSites ? undefined : scope.siteIds, query);
+    // One lock query for the page, not one per row.
+    const locks = this.sessions.activeLocksOfStudy(studyId);
+    const locked = (session: (typeof rows)[number]['session']): boolean =>
+      locks.some((lock) => lockCovers(lock, { studyId, siteId: session.siteId, subjectId: session.subjectId, visitId: session.visitId, sessionId: session.id }));
     return {
-      items: rows.map((row) => toSessionSummary(row, this.sessions.activeLockOn(row.session) !== undefined)),
+      items: rows.map((row) => toSessionSummary(row, locked(row.session))),
       total,
       page: query.page,
       pageSize: query.pageSize,
