@@ -230,7 +230,10 @@ export const testSessions = sqliteTable(
   (table) => [
     uniqueIndex('test_sessions_slot').on(table.subjectId, table.visitId, table.timepointId, table.bronchodilator),
     index('test_sessions_study_site').on(table.studyId, table.siteId),
-    index('test_sessions_status').on(table.studyId, table.status),
+    // With the current file: the reading queue counts its backlog from this index alone.
+    index('test_sessions_status').on(table.studyId, table.status, table.currentUploadId),
+    // Finds the sessions under a visit lock (a visit of the schedule, across subjects).
+    index('test_sessions_visit').on(table.visitId),
   ],
 );
 
@@ -260,7 +263,12 @@ export const uploads = sqliteTable(
     errors: text('errors').notNull().default('[]'),
     processedAt: text('processed_at').notNull(),
   },
-  (table) => [uniqueIndex('uploads_study_sha256').on(table.studyId, table.sha256), index('uploads_session').on(table.sessionId)],
+  (table) => [
+    uniqueIndex('uploads_study_sha256').on(table.studyId, table.sha256),
+    index('uploads_session').on(table.sessionId),
+    // Walks a study's files in check order: the reading queue's order (due = checked + turnaround).
+    index('uploads_study_processed').on(table.studyId, table.processedAt, table.sessionId),
+  ],
 );
 
 /** One forced expiratory effort of a checked file: the engine's metrics, findings and suggested verdicts. */
@@ -440,7 +448,14 @@ export const reads = sqliteTable(
     signatureId: text('signature_id'),
     signedAt: text('signed_at'),
   },
-  (table) => [index('reads_session').on(table.sessionId), index('reads_reader').on(table.readerId, table.status)],
+  (table) => [
+    index('reads_session').on(table.sessionId),
+    index('reads_reader').on(table.readerId, table.status),
+    // The reads that count toward a session's over-read, by study, session and reader: the queue's eligibility.
+    index('reads_live_over_reads')
+      .on(table.studyId, table.sessionId, table.readerId)
+      .where(sql`${table.kind} <> 'adjudication' and ${table.status} <> 'withdrawn'`),
+  ],
 );
 
 /** A reader's verdicts on one effort, beside the engine's suggestion they started from. */

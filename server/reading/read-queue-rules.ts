@@ -1,5 +1,7 @@
 /**
- * Which sessions a reader may claim, as what kind of read, and by when: pure rules, no I/O.
+ * Which sessions a reader may claim, as what kind of read, and by when: pure rules, no I/O. A claim
+ * applies them to its session; the queue states the same rules in SQL (read-queue-repository.ts),
+ * and that file's test checks the two against each other.
  */
 import type { ReadKind } from '../../shared/contracts/reading.js';
 

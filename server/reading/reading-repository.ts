@@ -1,49 +1,18 @@
-import { and, asc, desc, eq, inArray, isNotNull, ne } from 'drizzle-orm';
+import { and, asc, desc, eq } from 'drizzle-orm';
 import type { TidemarkDatabase } from '../db/database.js';
-import { efforts, reads, readVerdicts, testSessions, timepoints, uploads, visits } from '../db/schema.js';
+import { reads, readVerdicts } from '../db/schema.js';
+import { ReadQueueRepository } from './read-queue-repository.js';
 
 export type ReadRow = typeof reads.$inferSelect;
 export type ReadVerdictRow = typeof readVerdicts.$inferSelect;
 
-/** A session that may wait for a read, with what the queue shows of it and when its file was checked. */
-export interface QueueCandidateRow {
-  readonly session: typeof testSessions.$inferSelect;
-  readonly visitCode: string;
-  readonly timepointCode: string;
-  /** When the current file passed the checks: the turnaround clock starts here. */
-  readonly checkedAt: string;
-  readonly effortCount: number;
-}
-
-/** Reads (over-reads) and their verdicts. */
+/** Reads (over-reads) and their verdicts; the reading queue's queries are in {@link queue}. */
 export class ReadingRepository {
-  constructor(private readonly db: TidemarkDatabase) {}
+  /** The reading queue in SQL, on the same database. */
+  readonly queue: ReadQueueRepository;
 
-  /** Sessions of a study in the given statuses that have a checked file. */
-  candidateSessions(studyId: string, statuses: readonly string[]): QueueCandidateRow[] {
-    return this.db
-      .select({
-        session: testSessions,
-        visitCode: visits.code,
-        timepointCode: timepoints.code,
-        checkedAt: uploads.processedAt,
-        effortCount: this.db.$count(efforts, eq(efforts.uploadId, testSessions.currentUploadId)),
-      })
-      .from(testSessions)
-      .innerJoin(uploads, eq(uploads.id, testSessions.currentUploadId))
-      .innerJoin(visits, eq(visits.id, testSessions.visitId))
-      .innerJoin(timepoints, eq(timepoints.id, testSessions.timepointId))
-      .where(and(eq(testSessions.studyId, studyId), inArray(testSessions.status, [...statuses]), isNotNull(testSessions.currentUploadId)))
-      .all();
-  }
-
-  /** Reads of a study that still count (in progress or signed). */
-  liveReadsOfStudy(studyId: string): ReadRow[] {
-    return this.db
-      .select()
-      .from(reads)
-      .where(and(eq(reads.studyId, studyId), ne(reads.status, 'withdrawn')))
-      .all();
+  constructor(private readonly db: TidemarkDatabase) {
+    this.queue = new ReadQueueRepository(db);
   }
 
   /** Every read of a session, withdrawn ones too, oldest first. */

@@ -140,6 +140,18 @@ export class ReadingService {
     return { efforts: curves.efforts.map((effort) => ({ ...effort, label: effortLabel(effort.index) })) };
   }
 
+  /**
+   * Starts computing the curves of a read just claimed, without waiting: decoding the stored file
+   * and drawing its plot series takes the server a noticeable while, and the reader's page asks
+   * for the curves moments later, so that request finds them in the upload service's cache. A
+   * failure here is only logged; the page's own request reports it.
+   */
+  prepareCurves(read: ReadRow): void {
+    this.uploads.curves(read.studyId, read.sessionId, { allSites: true }).catch((error: unknown) => {
+      this.logger.warn({ readId: read.id, error: error instanceof Error ? error.message : String(error) }, 'Curves of a claimed read could not be prepared');
+    });
+  }
+
   /** Saves the whole draft; 409 'stale-read' naming what differs when the read was saved elsewhere meanwhile. */
   save(principal: Principal, studyId: string, readId: string, input: SaveRead): ReadWorkspace {
     const read = this.ownRead(principal, studyId, readId);

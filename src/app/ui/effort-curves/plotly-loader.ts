@@ -21,3 +21,12 @@ export function loadPlotly(): Promise<PlotlyApi> {
   loading = pending;
   return pending;
 }
+
+/**
+ * Starts loading plotly without waiting for it, for areas whose pages draw curves: the download and
+ * the library's start-up then overlap the page's own start and data requests instead of following
+ * them. A failed load is left to the first chart, which tries again.
+ */
+export function preloadPlotly(): void {
+  loadPlotly().catch(() => undefined);
+}
