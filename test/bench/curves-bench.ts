@@ -56,6 +56,30 @@ function chartsDrawnAt(): number | false {
   return drawn ? performance.now() : false;
 }
 
+/**
+ * In the page: opens `path` through the app's own router, as a click on a link in the running app
+ * does (a history entry and a popstate, which Angular's router follows), and returns the page's time
+ * at that moment.
+ */
+function openInApp(path: string): number {
+  const page = globalThis as unknown as {
+    history: { pushState(state: unknown, title: string, url: string): void };
+    dispatchEvent(event: unknown): void;
+    PopStateEvent: new (type: string, init: { state: unknown }) => unknown;
+    performance: { now(): number };
+  };
+  const started = page.performance.now();
+  page.history.pushState({}, '', path);
+  page.dispatchEvent(new page.PopStateEvent('popstate', { state: {} }));
+  return started;
+}
+
+/** In the page: whether no curve chart is on the page any more. */
+function noCharts(): boolean {
+  const { document } = globalThis as unknown as PageGlobals;
+  return document.querySelectorAll('.js-plotly-plot').length === 0;
+}
+
 /** In the page: first contentful paint and the end of the workspace JSON's response (null when absent). */
 function baselineTimes(workspacePath: string): { firstContentfulPaintMs: number | null; workspaceArrivedMs: number | null } {
   const { performance } = globalThis as unknown as PageGlobals;
@@ -147,12 +171,33 @@ export async function curvesBenchmarkRows(format: (value: number, digits?: numbe
         const { firstContentfulPaintMs, workspaceArrivedMs } = await page.evaluate(baselineTimes, workspacePath);
         if (load > 0) timings.push({ chartsDrawnMs, firstContentfulPaintMs: firstContentfulPaintMs ?? Number.NaN, workspaceArrivedMs: workspaceArrivedMs ?? Number.NaN });
       }
+      // Opening the read from inside the running app (the reader's way from the queue): the app is
+      // booted and signed in, so this is the read's own cost: its JSON, its curves and the drawing.
+      const readPath = new URL(readUrl).pathname;
+      const inApp: number[] = [];
+      for (let open = 0; open <= LOADS; open++) {
+        await page.evaluate(openInApp, '/reading');
+        await page.waitForFunction(noCharts, undefined, { timeout: 30_000 });
+        const started = await page.evaluate(openInApp, readPath);
+        const drawnAt = (await page
+          .waitForFunction(chartsDrawnAt, undefined, { timeout: 30_000, polling: 'raf' })
+          .then((handle) => handle.jsonValue())) as number;
+        if (open > 0) inApp.push(drawnAt - started);
+      }
+      const inAppMedian = median(inApp);
+      const inAppP95 = percentile([...inApp].sort((a, b) => a - b), 95);
       const drawn = timings.map((timing) => timing.chartsDrawnMs).sort((a, b) => a - b);
       const drawnMedian = median(drawn);
       const drawnP95 = percentile(drawn, 95);
       const paintMedian = median(timings.map((timing) => timing.firstContentfulPaintMs));
       const workspaceMedian = median(timings.map((timing) => timing.workspaceArrivedMs));
       return [
+        [
+          `read opened from inside the app until both curve charts are drawn, median / p95 of ${LOADS}, ${WANTED_EFFORTS} efforts at ${BENCH_SESSION.base.sampleRateHz} Hz (headless Chromium)`,
+          `median ${format(inAppMedian)} ms, p95 ${format(inAppP95)} ms`,
+          `< ${GOAL_MS} ms${inAppMedian < GOAL_MS ? '' : ' (missed)'}`,
+          `${format(inAppMedian / drawnMedian, 2)} (baseline: the same read loaded as a new page, median ${format(drawnMedian)} ms)`,
+        ],
         [
           `${figure}, ${WANTED_EFFORTS} efforts at ${BENCH_SESSION.base.sampleRateHz} Hz`,
           `median ${format(drawnMedian)} ms, p95 ${format(drawnP95)} ms`,
