@@ -1,11 +1,14 @@
 /**
- * Engine benchmark (`npm run bench`): efforts analysed per second on one core, the
- * cost of analysing a session relative to merely parsing its JSON text, and heap
- * after 1k versus 10k efforts. Prints a markdown table. Each time is the median of
- * several equal batches, interleaved with its baseline in the same run after a
- * warm-up. Figures vary by machine (run it alone): they are measured here, never
- * asserted in tests.
+ * `npm run bench`: every benchmark of Tidemark in one markdown table (figure, value, goal,
+ * baseline, ratio to baseline), printed and written to test-output/bench-report.md. Each figure's
+ * baseline is measured in the same run. `npm run bench -- engine load` runs only the named
+ * sections. Figures vary by machine (run it alone): they are measured here, never asserted in tests.
+ *
+ * The engine section lives here: efforts analysed per second on one core, the cost of analysing
+ * a session relative to merely parsing its JSON text, and heap after 1k versus 10k efforts. Each
+ * time is the median of several equal batches, interleaved with its baseline after a warm-up.
  */
+import os from 'node:os';
 import { setFlagsFromString } from 'node:v8';
 import { runInNewContext } from 'node:vm';
 import { loadProtocol } from '../../server/protocols/protocol-catalogue.js';
@@ -20,11 +23,13 @@ import {
   type SessionDocument,
 } from '../../shared/spirometry/session-document.js';
 import { generateEffort, generateSession, type EffortSpec } from '../../shared/spirometry/synthetic/curve-generator.js';
-import { ingestBenchmarkRows } from './ingest-bench.js';
+import { loadBenchmarkRows } from '../load/load-test.js';
 import { auditChainBenchmarkRows } from './audit-chain-bench.js';
-import { releaseBenchmarkRows } from './release-bench.js';
-import { queueBenchmarkRows } from './queue-bench.js';
+import { formatNumber as number, fromFourColumns, markdownTable, writeReport, type BenchRow } from './bench-report.js';
 import { curvesBenchmarkRows } from './curves-bench.js';
+import { ingestBenchmarkRows } from './ingest-bench.js';
+import { queueBenchmarkRows } from './queue-bench.js';
+import { releaseBenchmarkRows } from './release-bench.js';
 
 setFlagsFromString('--expose-gc');
 const collectGarbage = runInNewContext('gc') as () => void;
@@ -108,95 +113,146 @@ function heapAfter(recordings: readonly Recording[], efforts: number): number {
   return process.memoryUsage().heapUsed;
 }
 
-const rows: string[][] = [];
-const number = (value: number, digits = 0): string => value.toLocaleString('en-US', { maximumFractionDigits: digits, minimumFractionDigits: digits });
+/** The engine's rows: throughput against JSON.parse of the same samples, the parts of a session, and heap. */
+function engineBenchmarkRows(): BenchRow[] {
+  const rows: BenchRow[] = [];
+  for (const rateHz of [100, 1000]) {
+    const { recording } = generateEffort(effortSpec(rateHz), 42);
+    const text = JSON.stringify(Array.from(recording.values));
+    // The goal figure against its baseline alone, then the parts against the whole.
+    const timed = compare([() => JSON.parse(text) as unknown, () => analyzeSession([recording], protocol)]);
+    const [parseMs, sessionMs] = timed.ms;
+    const parts = compare([
+      () => analyzeSession([recording], protocol),
+      () => analyzeRecording(recording, protocol.engine),
+      () => analyzeRecording(recording, protocol.engine, { plot: true }),
+    ]);
+    const [, recordingMs, plottedMs] = parts.ms;
+    rows.push({
+      figure: `efforts analysed per second, 15 s effort at ${rateHz} Hz (one core)`,
+      value: `${number(1000 / sessionMs)}/s`,
+      goal: rateHz === 100 ? `>= ${number(GOAL_EFFORTS_PER_S)}/s` : '-',
+      baseline: `JSON.parse of its samples, ${number(1000 / parseMs)}/s`,
+      ratio: `${number(timed.ratioToFirst[1], 2)} (time per effort)`,
+    });
+    rows.push({
+      figure: `  of which per-effort analysis (analyzeRecording), ${rateHz} Hz`,
+      value: `${number(recordingMs * 1000, 1)} us/effort`,
+      goal: '-',
+      baseline: 'the whole analyzeSession above',
+      ratio: `${number(parts.ratioToFirst[1], 2)}`,
+    });
+    rows.push({
+      figure: `  with plot series for the reader's screen, ${rateHz} Hz`,
+      value: `${number(plottedMs * 1000, 1)} us/effort`,
+      goal: '-',
+      baseline: 'analyzeRecording without plot series',
+      ratio: `${number(parts.ratioToFirst[2] / parts.ratioToFirst[1], 2)}`,
+    });
+  }
 
-for (const rateHz of [100, 1000]) {
-  const { recording } = generateEffort(effortSpec(rateHz), 42);
-  const text = JSON.stringify(Array.from(recording.values));
-  // The goal figure against its baseline alone, then the parts against the whole.
-  const timed = compare([() => JSON.parse(text) as unknown, () => analyzeSession([recording], protocol)]);
-  const [parseMs, sessionMs] = timed.ms;
-  const parts = compare([
-    () => analyzeSession([recording], protocol),
-    () => analyzeRecording(recording, protocol.engine),
-    () => analyzeRecording(recording, protocol.engine, { plot: true }),
-  ]);
-  const [, recordingMs, plottedMs] = parts.ms;
-  rows.push([
-    `efforts analysed per second, 15 s effort at ${rateHz} Hz (one core)`,
-    number(1000 / sessionMs),
-    rateHz === 100 ? `>= ${number(GOAL_EFFORTS_PER_S)}` : '-',
-    `${number(timed.ratioToFirst[1], 2)} (baseline: JSON.parse of its samples, ${number(1000 / parseMs)}/s)`,
-  ]);
-  rows.push([
-    `  of which per-effort analysis (analyzeRecording), ${rateHz} Hz`,
-    `${number(recordingMs * 1000, 1)} us/effort (${number(100 * parts.ratioToFirst[1], 0)} % of the time)`,
-    '-',
-    '-',
-  ]);
-  rows.push([
-    `  with plot series for the reader's screen, ${rateHz} Hz`,
-    `${number(plottedMs * 1000, 1)} us/effort`,
-    '-',
-    `${number(parts.ratioToFirst[2] / parts.ratioToFirst[1], 2)} (baseline: without plot series)`,
-  ]);
+  for (const rateHz of [100, 1000]) {
+    const efforts = generateSession({ efforts: 8, base: effortSpec(rateHz) }, 7);
+    const document: SessionDocument = {
+      format: SESSION_DOCUMENT_FORMAT,
+      metadata: { subjectCode: 'BENCH-001', visit: 'V1', demographics: { ageYears: 45, heightCm: 172, sex: 'female' } },
+      efforts: efforts.map(({ recording }) => recordingToSessionEffort(recording)),
+    };
+    const text = JSON.stringify(document);
+    const parsed = JSON.parse(text) as unknown;
+    const validated = parseSessionDocument(parsed);
+    const recordings = sessionDocumentToRecordings(validated);
+    const options = { demographics: { ageYears: 45 } };
+    // The same text for both: JSON.parse alone, and the whole path from text to analysis.
+    const timed = compare([
+      () => JSON.parse(text) as unknown,
+      () => analyzeSession(sessionDocumentToRecordings(parseSessionDocument(JSON.parse(text))), protocol, options),
+      () => parseSessionDocument(parsed),
+      () => sessionDocumentToRecordings(validated),
+      () => analyzeSession(recordings, protocol, options),
+    ]);
+    const [parseMs, totalMs, validateMs, convertMs, engineMs] = timed.ms;
+    const totalRatio = timed.ratioToFirst[1];
+    rows.push({
+      figure: `session of 8 efforts at ${rateHz} Hz (${number(text.length / 1024)} KiB JSON): parse + validate + analyse`,
+      value: `${number(totalMs, 2)} ms`,
+      goal: `added cost <= ${number(GOAL_ADDED_COST_RATIO, 1)}`,
+      baseline: `JSON.parse of the same text, ${number(parseMs, 2)} ms`,
+      ratio: `${number(totalRatio, 2)} in all, added cost ${number(totalRatio - 1, 2)}`,
+    });
+    rows.push({
+      figure: '  of which: schema validation / to recordings / analyzeSession',
+      value: `${number(validateMs, 2)} / ${number(convertMs, 2)} / ${number(engineMs, 2)} ms`,
+      goal: '-',
+      baseline: 'JSON.parse of the same text',
+      ratio: `${number(timed.ratioToFirst[2], 2)} / ${number(timed.ratioToFirst[3], 2)} / ${number(timed.ratioToFirst[4], 2)}`,
+    });
+  }
+
+  const recordings = [1, 2, 3, 4].map((seed) => generateEffort(effortSpec(100), seed).recording);
+  collectGarbage();
+  const startHeap = process.memoryUsage().heapUsed;
+  const heap1k = heapAfter(recordings, 1000);
+  const heap10k = heapAfter(recordings, 10000);
+  const mib = (bytes: number): string => `${number(bytes / 1024 / 1024, 1)} MiB`;
+  rows.push({
+    figure: 'heap after 1k efforts (100 Hz, after GC)',
+    value: mib(heap1k),
+    goal: 'flat',
+    baseline: `heap before, ${mib(startHeap)}`,
+    ratio: number(heap1k / startHeap, 2),
+  });
+  rows.push({
+    figure: 'heap after 10k more efforts (100 Hz, after GC)',
+    value: mib(heap10k),
+    goal: 'flat',
+    baseline: `heap after 1k, ${mib(heap1k)}`,
+    ratio: number(heap10k / heap1k, 2),
+  });
+  return rows;
 }
 
-for (const rateHz of [100, 1000]) {
-  const efforts = generateSession({ efforts: 8, base: effortSpec(rateHz) }, 7);
-  const document: SessionDocument = {
-    format: SESSION_DOCUMENT_FORMAT,
-    metadata: { subjectCode: 'BENCH-001', visit: 'V1', demographics: { ageYears: 45, heightCm: 172, sex: 'female' } },
-    efforts: efforts.map(({ recording }) => recordingToSessionEffort(recording)),
-  };
-  const text = JSON.stringify(document);
-  const parsed = JSON.parse(text) as unknown;
-  const validated = parseSessionDocument(parsed);
-  const recordings = sessionDocumentToRecordings(validated);
-  const options = { demographics: { ageYears: 45 } };
-  // The same text for both: JSON.parse alone, and the whole path from text to analysis.
-  const timed = compare([
-    () => JSON.parse(text) as unknown,
-    () => analyzeSession(sessionDocumentToRecordings(parseSessionDocument(JSON.parse(text))), protocol, options),
-    () => parseSessionDocument(parsed),
-    () => sessionDocumentToRecordings(validated),
-    () => analyzeSession(recordings, protocol, options),
-  ]);
-  const [parseMs, totalMs, validateMs, convertMs, engineMs] = timed.ms;
-  const totalRatio = timed.ratioToFirst[1];
-  rows.push([
-    `session of 8 efforts at ${rateHz} Hz (${number(text.length / 1024)} KiB JSON): parse + validate + analyse`,
-    `${number(totalMs, 2)} ms`,
-    `added cost <= ${number(GOAL_ADDED_COST_RATIO, 1)}`,
-    `${number(totalRatio, 2)} in all, added cost ${number(totalRatio - 1, 2)} (baseline: JSON.parse of the same text, ${number(parseMs, 2)} ms)`,
-  ]);
-  rows.push([
-    '  of which: schema validation / to recordings / analyzeSession',
-    `${number(validateMs, 2)} / ${number(convertMs, 2)} / ${number(engineMs, 2)} ms`,
-    '-',
-    `${number(timed.ratioToFirst[2], 2)} / ${number(timed.ratioToFirst[3], 2)} / ${number(timed.ratioToFirst[4], 2)}`,
-  ]);
-}
-
-const recordings = [1, 2, 3, 4].map((seed) => generateEffort(effortSpec(100), seed).recording);
-collectGarbage();
-const startHeap = process.memoryUsage().heapUsed;
-const heap1k = heapAfter(recordings, 1000);
-const heap10k = heapAfter(recordings, 10000);
-const mib = (bytes: number): string => `${number(bytes / 1024 / 1024, 1)} MiB`;
-rows.push(['heap after 1k efforts (100 Hz, after GC)', mib(heap1k), 'flat', `${number(heap1k / startHeap, 2)} (baseline: heap before, ${mib(startHeap)})`]);
-rows.push(['heap after 10k more efforts (100 Hz, after GC)', mib(heap10k), 'flat', `${number(heap10k / heap1k, 2)} (baseline: heap after 1k)`]);
-
-rows.push(...(await ingestBenchmarkRows(number)));
-rows.push(...(await auditChainBenchmarkRows(number)));
-rows.push(...(await releaseBenchmarkRows(number)));
-rows.push(...(await queueBenchmarkRows(number)));
-rows.push(...(await curvesBenchmarkRows(number)));
-
-const table = [
-  '| figure | value | goal | ratio to baseline |',
-  '| --- | --- | --- | --- |',
-  ...rows.map((row) => `| ${row.join(' | ')} |`),
+/** Every section of the report, in the order of the table. */
+const SECTIONS: readonly { readonly name: string; readonly rows: () => Promise<BenchRow[]> }[] = [
+  { name: 'engine', rows: async () => engineBenchmarkRows() },
+  { name: 'ingest', rows: () => ingestBenchmarkRows(number) },
+  { name: 'queue', rows: async () => (await queueBenchmarkRows(number)).map(fromFourColumns) },
+  { name: 'curves', rows: async () => (await curvesBenchmarkRows(number)).map(fromFourColumns) },
+  { name: 'release', rows: async () => (await releaseBenchmarkRows(number)).map(fromFourColumns) },
+  { name: 'audit', rows: () => auditChainBenchmarkRows(number) },
+  { name: 'load', rows: () => loadBenchmarkRows(number) },
 ];
-process.stdout.write(`Tidemark engine benchmark (node ${process.version}, protocol ${protocol.id} v${protocol.version})\n\n${table.join('\n')}\n`);
+
+const wanted = process.argv.slice(2);
+const unknown = wanted.filter((name) => !SECTIONS.some((section) => section.name === name));
+if (unknown.length > 0) {
+  process.stderr.write(`Unknown benchmark section(s): ${unknown.join(', ')}. Sections: ${SECTIONS.map((section) => section.name).join(', ')}.\n`);
+  process.exit(2);
+}
+const loadAverageBefore = os.loadavg()[0];
+const rows: BenchRow[] = [];
+const failed: string[] = [];
+for (const section of SECTIONS.filter((candidate) => wanted.length === 0 || wanted.includes(candidate.name))) {
+  const started = performance.now();
+  process.stderr.write(`bench: ${section.name}...\n`);
+  try {
+    rows.push(...(await section.rows()));
+  } catch (error) {
+    // One broken section must not cost the figures of the others: it is reported in its row.
+    failed.push(section.name);
+    rows.push({ figure: `${section.name}: not measured`, value: `failed: ${(error as Error).message.split('\n')[0]}`, goal: '-', baseline: '-', ratio: '-' });
+  }
+  process.stderr.write(`bench: ${section.name} took ${number((performance.now() - started) / 1000, 1)} s\n`);
+}
+
+const cpus = os.cpus();
+const heading =
+  `Tidemark benchmarks, ${new Date().toISOString().slice(0, 10)} (node ${process.version}, ${cpus.length} x ${cpus[0]?.model.trim() ?? 'unknown CPU'}, ` +
+  `${number(os.totalmem() / 1024 ** 3, 1)} GiB, load average ${number(loadAverageBefore, 1)} before the run; protocol ${protocol.id} v${protocol.version})` +
+  (wanted.length > 0 ? `; sections: ${wanted.join(', ')}` : '');
+const report = `${heading}\n\n${markdownTable(rows)}\n`;
+process.stdout.write(`${report}\nWritten to ${writeReport(report)}\n`);
+if (failed.length > 0) {
+  process.stderr.write(`Not measured: ${failed.join(', ')}.\n`);
+  process.exitCode = 1;
+}
