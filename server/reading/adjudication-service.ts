@@ -3,6 +3,7 @@ import type { AuditTrail } from '../audit/audit-trail.js';
 import type { Principal } from '../auth/principal.js';
 import { AppError } from '../http/app-error.js';
 import { studyActor } from '../http/access.js';
+import { coveringLock } from '../locks/lock-scope.js';
 import type { SessionRepository } from '../sessions/session-repository.js';
 import type { StudyRepository, StudyRow } from '../studies/study-repository.js';
 import type { AdjudicationCandidate, AdjudicationRepository, DualReadRow } from './adjudication-repository.js';
@@ -46,9 +47,11 @@ export class AdjudicationService {
     const study = this.requireStudy(studyId);
     const blinding = readerBlinding(study.blindingJson);
     const now = this.clock().getTime();
+    // One lock query for the queue, not one per disputed session.
+    const locks = this.sessions.activeLocksOfStudy(studyId);
     const items: QueueItem[] = this.disputedSessions(studyId)
       .filter((disputed) => unavailableReason(disputed.reads, principal.user.id) === undefined)
-      .filter((disputed) => !this.sessions.activeLockOn(disputed.candidate.session))
+      .filter(({ candidate: { session } }) => coveringLock(locks, { studyId, siteId: session.siteId, subjectId: session.subjectId, visitId: session.visitId, sessionId: session.id }) === undefined)
       .map(({ candidate, readA }) => ({
         queueToken: this.tokenFor(principal.user.id, candidate.session.id),
         kind: 'adjudication' as const,
