@@ -1,24 +1,32 @@
 /**
- * Writes the files of one release into a folder, streaming: the sessions pass through in release
- * order, a batch at a time, once for the CSV tables (which also measures the transport lengths),
- * once for the SAS transport file and once per workbook sheet, and each file is hashed as it is
- * written. Memory stays flat whatever the size of the study.
+ * Writes the data files of one release into a folder, streaming, each hashed as it is written.
+ *
+ * One pass over the sessions (in release order, a batch at a time from the database) writes the
+ * CSV tables and SDTM RE as CSV, measuring the RE texts on the way. The SAS transport file needs
+ * those lengths in its header, so it is written next, from re.csv; the workbook is written from
+ * the CSV files too (./release-workbook.ts, on another thread when it can). Reading the database
+ * once and the CSV files back costs far less than assembling every session again for each file,
+ * and the transport file and workbook then hold exactly the values of the CSV files. Memory stays
+ * flat whatever the size of the study.
  */
+import fs from 'node:fs';
 import path from 'node:path';
 import { buildDefineDocument, renderDefineHtml } from './define-metadata.js';
-import { csvHeader, csvLine } from './release-csv.js';
+import { csvHeader, csvLineWriter } from './release-csv.js';
 import { HashingFileSink } from './release-file-sink.js';
 import type { ReleaseSession } from './release-model.js';
 import type { StoredDigest } from './release-store.js';
-import { EFFORTS_TABLE, PLAIN_TABLES, READS_TABLE, SESSIONS_TABLE } from './release-tables.js';
-import { ReleaseWorkbook, type WorkbookReadme } from './release-xlsx.js';
-import { RE_COLUMNS, RE_VARIABLES, ReSequencer, type ReRow } from './sdtm-re.js';
-import { xptHeader, XptObservationEncoder, type XptVariable } from './xpt-writer.js';
+import { EFFORTS_TABLE, READS_TABLE, SESSIONS_TABLE } from './release-tables.js';
+import type { WorkbookReadme } from './release-xlsx.js';
+import { RE, RE_COLUMNS, RE_VARIABLES, ReSequencer, type ReRow } from './sdtm-re.js';
+import { XptCsvTranscoder } from './xpt-from-csv.js';
+import { xptHeader, type XptVariable } from './xpt-writer.js';
 
-/** The released sessions, readable as many times as the build needs. */
+/** The released sessions, in release order. */
 export interface ReleaseSource {
   readonly sessionCount: number;
-  /** Sessions in release order; without efforts when a pass does not need them (cheaper). */
+  readonly effortCount: number;
+  /** Without efforts (only `effortCount`) when a pass does not need them. */
   sessions(options: { readonly withEfforts: boolean }): Iterable<ReleaseSession>;
 }
 
@@ -41,19 +49,43 @@ export interface BuiltFile {
   readonly digest: StoredDigest;
 }
 
-export interface BuildOutcome {
-  readonly counts: { readonly sessions: number; readonly efforts: number; readonly reRecords: number };
+/** What the manifest counts. */
+export interface ReleaseCounts {
+  readonly sessions: number;
+  readonly efforts: number;
+  readonly reRecords: number;
 }
 
-/** Told of each file as soon as it is complete (the caller may store it while the next is written). */
+/** The CSV files of the pass over the sessions, which the transport file and the workbook are written from. */
+export interface TableFiles {
+  readonly sessions: string;
+  readonly efforts: string;
+  readonly reads: string;
+  readonly re: string;
+  /** The derived RE records alone (REDRVFL = Y), for the workbook's RE sheet; not a file of the release. */
+  readonly reDerived: string;
+}
+
+/** What the workbook is written from: the CSV files, and how many records they hold. */
+export interface WorkbookTables {
+  readonly files: TableFiles;
+  readonly counts: ReleaseCounts & { readonly derivedRecords: number };
+}
+
+/** What the pass over the sessions wrote and measured. */
+export interface TablesOutcome extends WorkbookTables {
+  /** Longest text of each RE variable (1 for numbers and for texts always empty), in {@link RE_VARIABLES} order. */
+  readonly reLengths: readonly number[];
+}
+
+/**
+ * Told of each file as soon as it is complete (the caller may store it while the next is written);
+ * {@link isReleaseFileName} tells the files of the release from those only the build needs.
+ */
 export type FileReady = (file: BuiltFile) => void;
 
-/** Called as sessions pass: the phase in words, units done and units in all. */
+/** Called as the work advances: the phase in words, units done and units in all. */
 export type BuildProgress = (phase: string, done: number, total: number) => void;
-
-/** Passes over the sessions for the data files (CSV, transport) and for the workbook (one per sheet). */
-export const DATA_PASSES = 2;
-export const WORKBOOK_PASSES = 4;
 
 const CSV_TYPE = 'text/csv; charset=utf-8';
 export const RELEASE_FILES: readonly { readonly name: string; readonly contentType: string; readonly holds: string }[] = [
@@ -68,95 +100,154 @@ export const RELEASE_FILES: readonly { readonly name: string; readonly contentTy
 ];
 
 export const contentTypeOf = (name: string): string => RELEASE_FILES.find((file) => file.name === name)!.contentType;
+
+/** Whether a file is one of the release's (rather than one only its build needs). */
+export function isReleaseFileName(name: string): boolean {
+  return RELEASE_FILES.some((file) => file.name === name);
+}
+
 const TEXT_COLUMNS = RE_COLUMNS.flatMap((column, index) => (column.type === 'text' ? [index] : []));
+/** Not a file of the release: the workbook's RE sheet is written from it. */
+const RE_DERIVED_FILE = 're-derived.part.csv';
+/** Bytes read from a file at a time. */
+const READ_BLOCK_BYTES = 256 * 1024;
+/** The phases of {@link writeTables}, as the progress bar names them. */
+export const TABLE_PHASES = { sessions: 'Writing the session tables', efforts: 'Writing the efforts and SDTM RE' } as const;
+/** Sessions between two progress reports. */
+const SESSIONS_PER_REPORT = 100;
+
+/** Where the CSV files of a release are written in its folder. */
+export function tableFilesIn(folder: string): TableFiles {
+  return {
+    sessions: path.join(folder, 'sessions.csv'),
+    efforts: path.join(folder, 'efforts.csv'),
+    reads: path.join(folder, 'reads.csv'),
+    re: path.join(folder, 're.csv'),
+    reDerived: path.join(folder, RE_DERIVED_FILE),
+  };
+}
 
 /**
- * Writes the data files of the release (CSV tables, SDTM RE as CSV and transport, define) into
- * `context.folder`, telling `ready` of each as it is done. The workbook is written apart
- * ({@link writeWorkbookFile}), on another thread when it can be.
+ * The passes over the sessions, each file told to `ready` as soon as it is complete (a file of
+ * the release or not: the derived RE records are kept apart for the workbook). First the session
+ * tables (sessions.csv, reads.csv), which need no efforts: the workbook's first sheet can start
+ * from them while the second pass writes efforts.csv, re.csv and the derived records.
  */
-export async function buildDataFiles(source: ReleaseSource, context: BuildContext, progress: BuildProgress, ready: FileReady): Promise<BuildOutcome> {
-  const total = source.sessionCount * DATA_PASSES;
-  let done = 0;
-  const step = (phase: string) => {
-    done++;
-    if (done % 100 === 0 || done === total) progress(phase, done, total);
+export async function writeTables(source: ReleaseSource, context: BuildContext, progress: BuildProgress, ready: FileReady): Promise<TablesOutcome> {
+  const files = tableFilesIn(context.folder);
+  const open = async (filePath: string, header: string) => {
+    const sink = new HashingFileSink(filePath);
+    await sink.writeText(header);
+    return sink;
   };
-  const sink = (name: string) => new HashingFileSink(path.join(context.folder, name));
-  const finish = async (name: string, fileSink: HashingFileSink) => {
-    ready({ name, contentType: contentTypeOf(name), path: fileSink.path, digest: await fileSink.close() });
+  const finish = async (name: string, sink: HashingFileSink) => {
+    ready({ name, contentType: RELEASE_FILES.find((file) => file.name === name)?.contentType ?? CSV_TYPE, path: sink.path, digest: await sink.close() });
   };
 
-  // Pass 1: the CSV tables, measuring the RE text lengths for the transport file on the way.
-  const phase1 = 'Writing the CSV tables and SDTM RE';
-  progress(phase1, done, total);
-  const tableSinks = PLAIN_TABLES.map((table) => ({ table, sink: sink(`${table.name}.csv`) }));
-  const reSink = sink('re.csv');
-  for (const { table, sink: tableSink } of tableSinks) await tableSink.writeText(csvHeader(table));
-  await reSink.writeText(csvHeader({ columns: RE_COLUMNS }));
+  const sessionPhase = TABLE_PHASES.sessions;
+  progress(sessionPhase, 0, source.sessionCount);
+  const sessionsSink = await open(files.sessions, csvHeader(SESSIONS_TABLE));
+  const readsSink = await open(files.reads, csvHeader(READS_TABLE));
+  const sessionLine = csvLineWriter(SESSIONS_TABLE.columns);
+  const readLine = csvLineWriter(READS_TABLE.columns);
+  let sessions = 0;
+  for (const session of source.sessions({ withEfforts: false })) {
+    await sessionsSink.writeText(sessionLine(session));
+    await readsSink.writeText(readLine(session));
+    if (++sessions % SESSIONS_PER_REPORT === 0) progress(sessionPhase, sessions, source.sessionCount);
+  }
+  await finish('sessions.csv', sessionsSink);
+  await finish('reads.csv', readsSink);
+
+  const effortPhase = TABLE_PHASES.efforts;
+  progress(effortPhase, 0, source.sessionCount);
+  const effortsSink = await open(files.efforts, csvHeader(EFFORTS_TABLE));
+  const reSink = await open(files.re, csvHeader({ columns: RE_COLUMNS }));
+  const derivedSink = await open(files.reDerived, csvHeader({ columns: RE_COLUMNS }));
+  const effortLine = csvLineWriter(EFFORTS_TABLE.columns);
+  const reLine = csvLineWriter(RE_COLUMNS);
   const lengths = RE_COLUMNS.map(() => 1);
   const sequencer = new ReSequencer();
   let efforts = 0;
   let reRecords = 0;
-  let sessions = 0;
+  let derivedRecords = 0;
   let reText = '';
+  let derivedText = '';
   const writeReRow = (row: ReRow) => {
     reRecords++;
-    reText += csvLine(RE_COLUMNS, row);
+    const line = reLine(row);
+    reText += line;
+    if (row[RE.REDRVFL] === 'Y') {
+      derivedRecords++;
+      derivedText += line;
+    }
     for (const index of TEXT_COLUMNS) {
       const value = row[index] as string | null;
       if (value !== null && value.length > lengths[index]) lengths[index] = value.length;
     }
   };
+  let done = 0;
   for (const session of source.sessions({ withEfforts: true })) {
-    sessions++;
+    let effortText = '';
+    for (const row of EFFORTS_TABLE.rowsOf(session)) effortText += effortLine(row);
     efforts += session.efforts.length;
-    await tableSinks[0].sink.writeText(csvLines(SESSIONS_TABLE, session));
-    await tableSinks[1].sink.writeText(csvLines(EFFORTS_TABLE, session));
-    await tableSinks[2].sink.writeText(csvLines(READS_TABLE, session));
+    await effortsSink.writeText(effortText);
     sequencer.emit(session, writeReRow);
     await reSink.writeText(reText);
+    await derivedSink.writeText(derivedText);
     reText = '';
-    step(phase1);
+    derivedText = '';
+    if (++done % SESSIONS_PER_REPORT === 0) progress(effortPhase, done, source.sessionCount);
   }
-  for (const { table, sink: tableSink } of tableSinks) await finish(`${table.name}.csv`, tableSink);
+  if (done !== sessions) throw new Error(`The passes over the sessions read ${sessions} and ${done} sessions`);
+  await finish('efforts.csv', effortsSink);
   await finish('re.csv', reSink);
+  await finish(RE_DERIVED_FILE, derivedSink);
+  progress(effortPhase, done, source.sessionCount);
+  return { counts: { sessions, efforts, reRecords, derivedRecords }, reLengths: lengths, files };
+}
 
-  // Pass 2: the SAS transport file; its texts are already ASCII (see sdtm-re), so lengths are in bytes.
-  const phase2 = 'Writing the SAS transport file';
+/**
+ * The SAS transport file, written from re.csv (./xpt-from-csv.ts), then the define document.
+ * re.csv holds every RE text as the transport file does (ASCII, see sdtm-re) and every number as
+ * the shortest text that reads back to the same double, so the two files hold the same values.
+ */
+export async function writeTransportAndDefine(tables: TablesOutcome, context: BuildContext, progress: BuildProgress, ready: FileReady): Promise<void> {
+  const phase = 'Writing the SAS transport file';
+  const total = tables.counts.reRecords;
+  progress(phase, 0, total);
   const variables: XptVariable[] = RE_COLUMNS.map((column, index) => ({
     name: column.name,
     label: column.label,
     type: column.type === 'text' ? 'char' : 'num',
-    length: column.type === 'text' ? lengths[index] : 8,
+    length: column.type === 'text' ? tables.reLengths[index] : 8,
   }));
+  const sink = (name: string) => new HashingFileSink(path.join(context.folder, name));
+  const finish = async (name: string, fileSink: HashingFileSink) => {
+    ready({ name, contentType: contentTypeOf(name), path: fileSink.path, digest: await fileSink.close() });
+  };
   const xpt = sink('re.xpt');
   await xpt.write(xptHeader({ name: 'RE', label: 'Respiratory System Findings', variables, createdAt: new Date(context.dataAsOf) }));
-  const encoder = new XptObservationEncoder(variables);
-  const xptSequencer = new ReSequencer();
-  const chunks: Buffer[] = [];
-  const encodeRow = (row: ReRow) => {
-    const chunk = encoder.add(row);
-    if (chunk) chunks.push(chunk);
-  };
-  for (const session of source.sessions({ withEfforts: true })) {
-    xptSequencer.emit(session, encodeRow);
-    for (const chunk of chunks.splice(0)) await xpt.write(chunk);
-    step(phase2);
+  const transcoder = new XptCsvTranscoder(variables);
+  for await (const bytes of fs.createReadStream(tables.files.re, { highWaterMark: READ_BLOCK_BYTES })) {
+    for (const chunk of transcoder.push(bytes as Buffer)) await xpt.write(chunk);
+    progress(phase, transcoder.count, total);
   }
-  await xpt.write(encoder.finish());
+  transcoder.end();
+  if (transcoder.count !== total) throw new Error(`re.csv holds ${transcoder.count} records where ${total} were written`);
+  await xpt.write(transcoder.finish());
   await finish('re.xpt', xpt);
 
-  // The define document: no pass over the data, only what the passes counted and measured.
+  // The define document: no pass over the data, only what the pass counted and measured.
   const define = buildDefineDocument({
     study: context.study,
     dataAsOf: context.dataAsOf,
-    reLengths: new Map(RE_VARIABLES.map((name, index) => [name, lengths[index]])),
-    reRecords,
+    reLengths: new Map(RE_VARIABLES.map((name, index) => [name, tables.reLengths[index]])),
+    reRecords: tables.counts.reRecords,
     tables: [
-      { table: SESSIONS_TABLE, rows: sessions },
-      { table: EFFORTS_TABLE, rows: efforts },
-      { table: READS_TABLE, rows: sessions },
+      { table: SESSIONS_TABLE, rows: tables.counts.sessions },
+      { table: EFFORTS_TABLE, rows: tables.counts.efforts },
+      { table: READS_TABLE, rows: tables.counts.sessions },
     ],
   });
   for (const [name, text] of [
@@ -167,60 +258,4 @@ export async function buildDataFiles(source: ReleaseSource, context: BuildContex
     await defineSink.writeText(text);
     await finish(name, defineSink);
   }
-
-  return { counts: { sessions, efforts, reRecords } };
-}
-
-function csvLines<Row>(table: { readonly columns: Parameters<typeof csvLine<Row>>[0]; readonly rowsOf: (session: ReleaseSession) => readonly Row[] }, session: ReleaseSession): string {
-  let text = '';
-  for (const row of table.rowsOf(session)) text += csvLine(table.columns, row);
-  return text;
-}
-
-/** Writes the workbook to `filePath`, one sheet per pass over the sessions; returns its digest. */
-export async function writeWorkbookFile(source: ReleaseSource, context: BuildContext, filePath: string, sessionDone: () => void): Promise<StoredDigest> {
-  const workbookSink = new HashingFileSink(filePath);
-  const workbook = new ReleaseWorkbook(workbookSink.asWritable(), new Date(context.dataAsOf));
-  workbook.writeReadme({
-    studyCode: context.study.code,
-    studyTitle: context.study.title,
-    sponsor: context.study.sponsor,
-    releaseId: context.releaseId,
-    dataCutAt: context.dataCutAt,
-    dataAsOf: context.dataAsOf,
-    signer: context.signer,
-    caution: context.caution,
-    files: RELEASE_FILES.filter((file) => file.name !== 'release.xlsx').map(({ name, holds }) => ({ name, holds })),
-    notes: [
-      'Sheets Sessions, Efforts and Final reads hold the same rows as sessions.csv, efforts.csv and reads.csv.',
-      'Sheet RE holds the derived records of SDTM RE (REDRVFL = Y: reported FEV1, FVC, FEV1/FVC and the grades of each session), ' +
-        'numbered as in the whole domain; every record, one per test per effort, is in re.csv and re.xpt.',
-      'Decimals are rounded as in the CSV files; times are ISO 8601, UTC unless an offset is shown.',
-    ],
-  });
-  const counted = function* (withEfforts: boolean): Generator<ReleaseSession> {
-    for (const session of source.sessions({ withEfforts })) {
-      yield session;
-      sessionDone();
-    }
-  };
-  await workbook.writeTable(SESSIONS_TABLE.title, SESSIONS_TABLE.columns, counted(false));
-  await workbook.writeTable(EFFORTS_TABLE.title, EFFORTS_TABLE.columns, flatten(counted(true), (session) => EFFORTS_TABLE.rowsOf(session)));
-  await workbook.writeTable(READS_TABLE.title, READS_TABLE.columns, counted(false));
-  const sequencer = new ReSequencer();
-  await workbook.writeTable(
-    'RE',
-    RE_COLUMNS,
-    flatten(counted(false), (session) => {
-      const rows: ReRow[] = [];
-      sequencer.emitDerived(session, (row) => rows.push([...row]));
-      return rows;
-    }),
-  );
-  await workbook.finish();
-  return workbookSink.close();
-}
-
-function* flatten<T, U>(items: Iterable<T>, expand: (item: T) => readonly U[]): Generator<U> {
-  for (const item of items) yield* expand(item);
 }

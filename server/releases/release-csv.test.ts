@@ -1,10 +1,15 @@
 /**
  * CSV as RFC 4180 (Shafranovich 2005) section 2 describes it: CRLF line breaks, fields with a
- * comma, double quote or line break enclosed in double quotes, inner quotes doubled. Number
- * formatting is ours: fixed decimals per column, so that the same data gives the same bytes.
+ * comma, double quote or line break enclosed in double quotes, inner quotes doubled; and read
+ * back the same way. Number formatting is ours: fixed decimals per column, so that the same data
+ * gives the same bytes.
  */
+import fs from 'node:fs';
+import os from 'node:os';
+import path from 'node:path';
 import { describe, expect, it } from '@jest/globals';
-import { csvField, csvHeader, csvLine, formatCell } from './release-csv.js';
+import fc from 'fast-check';
+import { csvField, csvHeader, csvLine, formatCell, parseCsvRecords, readCsvRecords } from './release-csv.js';
 import type { ReleaseColumn } from './release-model.js';
 
 describe('fields (RFC 4180 section 2, rules 5-7)', () => {
@@ -52,5 +57,74 @@ describe('lines', () => {
     expect(csvHeader({ columns })).toBe('name,value_l\r\n');
     expect(csvLine(columns, { name: 'Visit 2, week 4', value: 1.2 })).toBe('"Visit 2, week 4",1.200\r\n');
     expect(csvLine(columns, { name: 'x', value: null })).toBe('x,\r\n');
+  });
+});
+
+describe('reading back what csvLine wrote (RFC 4180 section 2)', () => {
+  type Row = { text: string; number: number | null };
+  const columns: ReleaseColumn<Row>[] = [
+    { name: 'text', label: 'text', type: 'text', description: '', value: (row) => row.text },
+    { name: 'number', label: 'number', type: 'decimal', digits: 2, description: '', value: (row) => row.number },
+  ];
+
+  it('undoes the quoting: commas, doubled quotes and line breaks inside fields, and empty fields', () => {
+    const rows: Row[] = [
+      { text: 'Visit 2, week 4', number: 1.5 },
+      { text: 'say "hi"', number: null },
+      { text: 'two\r\nlines', number: -0.001 },
+      { text: '', number: 0 },
+    ];
+    const text = csvHeader({ columns }) + rows.map((row) => csvLine(columns, row)).join('');
+    expect(parseCsvRecords(text)).toEqual({
+      records: [
+        ['text', 'number'],
+        ['Visit 2, week 4', '1.50'],
+        ['say "hi"', ''],
+        ['two\r\nlines', '0.00'],
+        ['', '0.00'],
+      ],
+      consumed: text.length,
+    });
+  });
+
+  it('takes only whole records: text cut anywhere leaves the cut record for the next block', () => {
+    fc.assert(
+      fc.property(
+        fc.array(fc.array(fc.string({ unit: 'grapheme', maxLength: 12 }), { minLength: 1, maxLength: 5 }), { minLength: 1, maxLength: 8 }),
+        fc.nat(),
+        (records, cutAt) => {
+          const text = records.map((fields) => `${fields.map(csvField).join(',')}\r\n`).join('');
+          const cut = cutAt % (text.length + 1);
+          const first = parseCsvRecords(text.slice(0, cut));
+          const second = parseCsvRecords(text.slice(first.consumed));
+          expect(second.consumed).toBe(text.length - first.consumed);
+          expect([...first.records, ...second.records]).toEqual(records);
+        },
+      ),
+    );
+  });
+
+  it('reads a file a block at a time, and names the file when it ends inside a record', async () => {
+    const folder = fs.mkdtempSync(path.join(os.tmpdir(), 'tidemark-csv-'));
+    try {
+      const file = path.join(folder, 'rows.csv');
+      const line = csvLine(columns, { text: 'a "long", quoted\r\ntext '.repeat(20), number: 2 });
+      fs.writeFileSync(file, line.repeat(5_000));
+      const blocks: string[][][] = [];
+      for await (const records of readCsvRecords(file)) blocks.push(records);
+      expect(blocks.length).toBeGreaterThan(1);
+      expect(blocks.flat()).toEqual(Array.from({ length: 5_000 }, () => ['a "long", quoted\r\ntext '.repeat(20), '2.00']));
+
+      fs.writeFileSync(file, `${line}"unfinished,`);
+      await expect(async () => {
+        for await (const _records of readCsvRecords(file)) void _records;
+      }).rejects.toThrow(`${file} ends inside a record`);
+    } finally {
+      fs.rmSync(folder, { recursive: true, force: true });
+    }
+  });
+
+  it('refuses a record with text after a closing quote', () => {
+    expect(() => parseCsvRecords('"a"b,c\r\n')).toThrow(/"b" after a field where a comma or CRLF belongs/);
   });
 });

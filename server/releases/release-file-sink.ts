@@ -13,9 +13,13 @@ export class HashingFileSink {
   private readonly hash: Hash = createHash('sha256');
   private size = 0;
   private failure: Error | undefined;
-  /** Text is gathered into blocks of this many characters before it is written. */
-  private pending = '';
   private static readonly TEXT_BLOCK = 64 * 1024;
+  /**
+   * Text is encoded into this block as it comes, so that no long string waits in the heap (where it
+   * would outlive a few young-generation collections and be promoted, to be collected much later).
+   */
+  private block = Buffer.allocUnsafe(HashingFileSink.TEXT_BLOCK);
+  private blockUsed = 0;
 
   constructor(readonly path: string) {
     this.file = fs.createWriteStream(path);
@@ -24,10 +28,20 @@ export class HashingFileSink {
     });
   }
 
-  /** Appends text (UTF-8), buffered into blocks. */
+  /** Appends text (UTF-8), gathered into blocks. */
   async writeText(text: string): Promise<void> {
-    this.pending += text;
-    if (this.pending.length >= HashingFileSink.TEXT_BLOCK) await this.flushText();
+    // At most three bytes per UTF-16 unit: only a text that might not fit is measured.
+    if (this.blockUsed + text.length * 3 > this.block.length) {
+      const bytes = Buffer.byteLength(text, 'utf8');
+      if (this.blockUsed + bytes > this.block.length) {
+        await this.flushText();
+        if (bytes > this.block.length) {
+          await this.writeBytes(Buffer.from(text, 'utf8'));
+          return;
+        }
+      }
+    }
+    this.blockUsed += this.block.write(text, this.blockUsed, 'utf8');
   }
 
   /** Appends bytes; resolves once the disk has room for more. */
@@ -56,9 +70,11 @@ export class HashingFileSink {
   }
 
   private async flushText(): Promise<void> {
-    if (this.pending.length === 0) return;
-    const bytes = Buffer.from(this.pending, 'utf8');
-    this.pending = '';
+    if (this.blockUsed === 0) return;
+    const bytes = this.block.subarray(0, this.blockUsed);
+    // The stream holds on to the bytes until they are on disk: the next text goes to a new block.
+    this.block = Buffer.allocUnsafe(HashingFileSink.TEXT_BLOCK);
+    this.blockUsed = 0;
     await this.writeBytes(bytes);
   }
 

@@ -1,7 +1,7 @@
 import type { Statement } from 'better-sqlite3';
-import { and, asc, eq, isNull, sql } from 'drizzle-orm';
+import { and, asc, eq, isNull } from 'drizzle-orm';
 import type { TidemarkDatabase } from '../db/database.js';
-import { auditEvents, dataLocks, efforts, studies, testSessions } from '../db/schema.js';
+import { auditEvents, dataLocks, studies } from '../db/schema.js';
 import type { EffortFacts, LockHead, SessionDetails, SessionHead, SignedReadHead, VerdictFacts } from './release-scope.js';
 
 export type ReleaseStudyRow = typeof studies.$inferSelect;
@@ -10,9 +10,13 @@ export type ReleaseAuditRow = typeof auditEvents.$inferSelect;
 /** Reads the locked data a release is built from: sessions, locks, final reads, efforts and verdicts. */
 export class ReleaseRepository {
   private headsStatement: Statement | undefined;
-  private detailsStatement: Statement | undefined;
+  private sessionsStatement: Statement | undefined;
+  private readsByIdStatement: Statement | undefined;
   private readsStatement: Statement | undefined;
+  private readHeadsStatement: Statement | undefined;
   private effortsStatement: Statement | undefined;
+  private effortCountsStatement: Statement | undefined;
+  private effortCountStatement: Statement | undefined;
   private verdictsStatement: Statement | undefined;
 
   constructor(private readonly db: TidemarkDatabase) {}
@@ -62,20 +66,29 @@ export class ReleaseRepository {
     }));
   }
 
-  /** The rest of what the release files say of the given sessions, by session id. */
-  sessionDetails(sessionIds: readonly string[]): Map<string, SessionDetails> {
-    this.detailsStatement ??= this.db.$client.prepare(
-      `select s.id, visit.name as visitName, timepoint.name as timepointName, s.tested_at as testedAt, s.time_zone as timeZone,
+  /**
+   * The given sessions with everything the release files say of them but their efforts, by
+   * session id. One prepared statement takes the ids as a JSON array, so the release's many
+   * batches reuse it.
+   */
+  sessionsById(sessionIds: readonly string[]): Map<string, SessionHead & SessionDetails> {
+    this.sessionsStatement ??= this.db.$client.prepare(
+      `select s.id, s.site_id as siteId, site.number as siteNumber, s.subject_id as subjectId, subject.code as subjectCode,
+              s.visit_id as visitId, visit.code as visitCode, visit.ordinal as visitOrdinal, visit.name as visitName,
+              timepoint.code as timepointCode, timepoint.ordinal as timepointOrdinal, timepoint.name as timepointName,
+              s.bronchodilator, s.status, s.updated_at as updatedAt, s.tested_at as testedAt, s.time_zone as timeZone,
               s.age_years as ageYears, s.height_cm as heightCm, s.weight_kg as weightKg, s.sex, s.technician_code as technicianCode,
               s.device_manufacturer as deviceManufacturer, s.device_model as deviceModel, s.device_serial_number as deviceSerialNumber
          from test_sessions s
+         join sites site on site.id = s.site_id
+         join subjects subject on subject.id = s.subject_id
          join visits visit on visit.id = s.visit_id
          join timepoints timepoint on timepoint.id = s.timepoint_id
         where s.id in (select value from json_each(?))`,
     );
-    const details = new Map<string, SessionDetails>();
-    for (const { id, ...row } of this.detailsStatement.all(JSON.stringify(sessionIds)) as (SessionDetails & { id: string })[]) details.set(id, row);
-    return details;
+    const sessions = new Map<string, SessionHead & SessionDetails>();
+    for (const row of this.sessionsStatement.all(JSON.stringify(sessionIds)) as (SessionHead & SessionDetails)[]) sessions.set(row.id, row);
+    return sessions;
   }
 
   /** Locks of the study that are in force. */
@@ -88,18 +101,25 @@ export class ReleaseRepository {
       .all();
   }
 
-  /** Signed reads of the study's sessions, with the printed name of their signature. */
-  signedReads(studyId: string): SignedReadHead[] {
-    this.readsStatement ??= this.db.$client.prepare(
-      `select r.id, r.session_id as sessionId, r.upload_id as uploadId, r.kind, r.version,
-              coalesce(r.signed_at, r.updated_at) as signedAt, r.result_json as resultJson,
-              coalesce(signature.printed_name, reader.name) as signerName
-         from reads r
-         left join signatures signature on signature.id = r.signature_id
-         join users reader on reader.id = r.reader_id
-        where r.study_id = ? and r.status = 'signed'`,
-    );
-    return this.readsStatement.all(studyId) as SignedReadHead[];
+  /**
+   * Signed reads of the study's sessions, with the printed name of their signature; without
+   * their stored results (resultJson null) unless asked, as when only the fingerprint is wanted.
+   */
+  signedReads(studyId: string, withResults = true): SignedReadHead[] {
+    if (withResults) {
+      this.readsStatement ??= this.db.$client.prepare(signedReadsSql('r.result_json', 'r.study_id = ?'));
+      return this.readsStatement.all(studyId) as SignedReadHead[];
+    }
+    this.readHeadsStatement ??= this.db.$client.prepare(signedReadsSql('null', 'r.study_id = ?'));
+    return this.readHeadsStatement.all(studyId) as SignedReadHead[];
+  }
+
+  /** The given reads, if still signed, with their stored results, by read id. */
+  signedReadsById(readIds: readonly string[]): Map<string, SignedReadHead> {
+    this.readsByIdStatement ??= this.db.$client.prepare(signedReadsSql('r.result_json', 'r.id in (select value from json_each(?))'));
+    const reads = new Map<string, SignedReadHead>();
+    for (const read of this.readsByIdStatement.all(JSON.stringify(readIds)) as SignedReadHead[]) reads.set(read.id, read);
+    return reads;
   }
 
   /**
@@ -124,16 +144,20 @@ export class ReleaseRepository {
     return grouped;
   }
 
-  /** How many efforts each checked file of the study has, by upload id. */
-  effortCounts(studyId: string): Map<string, number> {
-    const rows = this.db
-      .select({ uploadId: efforts.uploadId, count: sql<number>`count(*)` })
-      .from(efforts)
-      .innerJoin(testSessions, eq(testSessions.id, efforts.sessionId))
-      .where(eq(testSessions.studyId, studyId))
-      .groupBy(efforts.uploadId)
-      .all();
-    return new Map(rows.map((row) => [row.uploadId, row.count]));
+  /** How many efforts the given checked files have in all. */
+  effortCount(uploadIds: readonly string[]): number {
+    this.effortCountStatement ??= this.db.$client.prepare(`select count(*) from efforts where upload_id in (select value from json_each(?))`).pluck();
+    return this.effortCountStatement.get(JSON.stringify(uploadIds)) as number;
+  }
+
+  /** How many efforts each of the given checked files has, by upload id. */
+  effortCountsOfUploads(uploadIds: readonly string[]): Map<string, number> {
+    this.effortCountsStatement ??= this.db.$client.prepare(
+      `select upload_id as uploadId, count(*) as count from efforts where upload_id in (select value from json_each(?)) group by upload_id`,
+    );
+    const counts = new Map<string, number>();
+    for (const row of this.effortCountsStatement.all(JSON.stringify(uploadIds)) as { uploadId: string; count: number }[]) counts.set(row.uploadId, row.count);
+    return counts;
   }
 
   /** The verdicts of the given reads, grouped by read. */
@@ -166,4 +190,15 @@ export class ReleaseRepository {
       .orderBy(asc(auditEvents.sequence))
       .all();
   }
+}
+
+/** Signed reads with the printed name of their signature, `resultJson` the stored result or null. */
+function signedReadsSql(resultJson: 'r.result_json' | 'null', where: string): string {
+  return `select r.id, r.session_id as sessionId, r.upload_id as uploadId, r.kind, r.version,
+                 coalesce(r.signed_at, r.updated_at) as signedAt, ${resultJson} as resultJson,
+                 coalesce(signature.printed_name, reader.name) as signerName
+            from reads r
+            left join signatures signature on signature.id = r.signature_id
+            join users reader on reader.id = r.reader_id
+           where ${where} and r.status = 'signed'`;
 }

@@ -4,7 +4,6 @@ import type { Logger } from 'pino';
 import * as z from 'zod';
 import type { Role } from '../../shared/contracts/auth.js';
 import type { AuditTrail } from '../audit/audit-trail.js';
-import type { AppConfig } from '../config.js';
 import type { TidemarkDatabase } from '../db/database.js';
 import { studyActor } from '../http/access.js';
 import type { ApiRouteRegistry } from '../http/api-route.js';
@@ -34,18 +33,17 @@ const fileParams = releaseParams.extend({ fileName: z.string().regex(/^[a-z0-9.-
 
 /** Builds the release service from the app's dependencies (the app and the benchmark use this). */
 export function createReleaseService(
-  deps: { readonly db: TidemarkDatabase; readonly storage: ObjectStorage; readonly config: AppConfig; readonly logger: Logger },
+  deps: { readonly db: TidemarkDatabase; readonly storage: ObjectStorage; readonly logger: Logger },
   shared: { readonly audit: AuditTrail; readonly messages: MessageService; readonly signatures: SignatureService; readonly clock: () => Date },
 ): ReleaseService {
   return new ReleaseService(
     new ReleaseRepository(deps.db),
-    new ReleaseStore(deps.storage, deps.config.storage),
+    new ReleaseStore(deps.storage),
     shared.signatures,
     shared.audit,
     shared.messages,
     shared.clock,
     deps.logger,
-    deps.config.databaseFile,
   );
 }
 

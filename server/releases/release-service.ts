@@ -20,12 +20,12 @@ import { AppError } from '../http/app-error.js';
 import type { MessageService, PendingMessage } from '../messages/message-service.js';
 import type { SignatureService } from '../signatures/signature-service.js';
 import {
-  buildDataFiles,
   contentTypeOf,
-  DATA_PASSES,
-  RELEASE_FILES,
-  WORKBOOK_PASSES,
-  writeWorkbookFile,
+  isReleaseFileName,
+  TABLE_PHASES,
+  tableFilesIn,
+  writeTables,
+  writeTransportAndDefine,
   type BuiltFile,
 } from './release-builder.js';
 import type { ReleaseProgress, ReleaseRequest, ReleaseStatus, ReleaseSummary } from './release-contract.js';
@@ -42,7 +42,6 @@ import {
   type ReleaseScope,
   type ReleaseVerification,
 } from './manifest.js';
-import type { ReleaseReadResult } from './release-model.js';
 import type { ReleaseRepository, ReleaseStudyRow } from './release-repository.js';
 import {
   blockersMessage,
@@ -51,18 +50,32 @@ import {
   finalReadOf,
   releaseBlockers,
   sessionsInScope,
+  type LockHead,
   type SessionHead,
   type SignedReadHead,
 } from './release-scope.js';
-import { releaseSource, type Snapshot } from './release-source.js';
-import { releaseKey, type ReleaseStore, type StoredDigest } from './release-store.js';
+import { ReleaseDataChanged, releaseSource, type ReleasePlan } from './release-source.js';
+import { releaseKey, type ReleaseStore } from './release-store.js';
 import { startWorkbook, type WorkbookJob } from './release-xlsx-worker.js';
+import { RE_DERIVED_RECORDS_PER_SESSION } from './sdtm-re.js';
 
-/** Largest release whose sessions are kept in memory between the passes of the build. */
-const MAX_EFFORTS_KEPT = 250_000;
 /** Share of the progress bar for building the files; storing them and the manifest take the rest. */
 const BUILD_SHARE = 90;
+/**
+ * Rough shares of the build's time on the progress bar (measured on the benchmark's release): the
+ * two passes over the sessions for the CSV files, the transport file, and the workbook (which runs
+ * beside them, on its own thread, and ends last).
+ */
+const STEP_WEIGHTS = { sessionTables: 1, effortTables: 4, transport: 1, workbook: 5 } as const;
+type BuildStep = keyof typeof STEP_WEIGHTS;
 const MANIFEST_FILE = 'manifest.json';
+
+/** The locked data of a scope when a release is asked for. */
+interface Snapshot {
+  readonly sessions: SessionHead[];
+  readonly locks: LockHead[];
+  readonly finalReads: Map<string, SignedReadHead>;
+}
 
 /** A release job while it runs and after, until the server restarts. */
 interface Job {
@@ -89,23 +102,7 @@ export class ReleaseService {
     private readonly messages: MessageService,
     private readonly clock: () => Date,
     private readonly logger: Logger,
-    /** The SQLite file, for the workbook worker's own read-only connection; without it the workbook is written on this thread. */
-    private readonly databaseFile?: string,
   ) {}
-
-  /** Starts the workbook: on a worker thread when the database is a file, else here. */
-  private startWorkbook(
-    task: Parameters<typeof startWorkbook>[0],
-    progress: (done: number, total: number) => void,
-    inThisThread: (sessionDone: () => void) => Promise<StoredDigest>,
-  ): WorkbookJob {
-    if (!this.databaseFile || this.databaseFile === ':memory:') {
-      const total = task.snapshot.sessions.length * WORKBOOK_PASSES;
-      let done = 0;
-      return { done: inThisThread(() => progress(++done, total)), stop: () => undefined };
-    }
-    return startWorkbook(task, progress, inThisThread, this.logger);
-  }
 
   /**
    * Checks that every session in scope is locked and read, signs and audits the release order,
@@ -176,7 +173,14 @@ export class ReleaseService {
     };
     this.jobs.set(releaseId, job);
     const manifestSignature = { signatureId: signature.id, printedName: signature.printedName, meaning: 'released' as const, signedAt: signature.signedAt };
-    job.done = this.run(job, actor, study, order, manifestSignature, snapshot);
+    // Only ids are kept while the files are written; the rest is read again a batch at a time.
+    const plan: ReleasePlan = {
+      sessions: snapshot.sessions.map((session) => ({ sessionId: session.id, readId: snapshot.finalReads.get(session.id)!.id })),
+      locks: snapshot.locks,
+      dataAsOf: dataAsOf(snapshot.sessions, snapshot.finalReads),
+      effortCount: this.repository.effortCount([...snapshot.finalReads.values()].map((read) => read.uploadId)),
+    };
+    job.done = this.run(job, actor, study, order, manifestSignature, plan);
     return { release: this.summary(studyId, releaseId), progress: this.progress(studyId, releaseId) };
   }
 
@@ -296,15 +300,46 @@ export class ReleaseService {
     study: ReleaseStudyRow,
     order: ReleaseOrder,
     signature: ReleaseManifest['signature'],
-    snapshot: Snapshot,
+    plan: ReleasePlan,
   ): Promise<void> {
     const folder = await fs.promises.mkdtemp(path.join(os.tmpdir(), 'tidemark-release-'));
     const stored: string[] = [];
     let workbook: WorkbookJob | undefined;
     try {
-      const asOf = dataAsOf(snapshot.sessions, snapshot.finalReads);
+      const asOf = plan.dataAsOf;
       const studyFacts = { code: study.code, title: study.title, sponsor: study.sponsor };
-      // Each file goes to storage as soon as it is written, while the next one is being built.
+      const context = {
+        folder,
+        study: studyFacts,
+        releaseId: order.releaseId,
+        dataCutAt: order.dataCutAt,
+        dataAsOf: asOf,
+        signer: signature,
+        caution: RELEASE_CAUTION,
+      };
+      const done: Record<BuildStep, number> = { sessionTables: 0, effortTables: 0, transport: 0, workbook: 0 };
+      const showProgress = (phase: string | undefined, step: BuildStep, fraction: number) => {
+        if (phase) job.phase = phase;
+        done[step] = Math.min(1, fraction);
+        const steps = Object.keys(STEP_WEIGHTS) as BuildStep[];
+        const weighed = steps.reduce((sum, each) => sum + done[each] * STEP_WEIGHTS[each], 0);
+        job.percent = (BUILD_SHARE * weighed) / steps.reduce((sum, each) => sum + STEP_WEIGHTS[each], 0);
+      };
+      // The workbook is written from the CSV files as they are written, beside everything else.
+      const workbookPath = path.join(folder, 'release.xlsx');
+      const workbookRows = plan.sessions.length * (2 + RE_DERIVED_RECORDS_PER_SESSION) + plan.effortCount;
+      let rowsWritten = 0;
+      const workbookJob = startWorkbook({ files: tableFilesIn(folder), context, filePath: workbookPath }, (rows) => {
+        rowsWritten += rows;
+        showProgress(undefined, 'workbook', rowsWritten / workbookRows);
+      }, this.logger);
+      workbook = workbookJob;
+      const workbookDone = workbookJob.done.then(
+        (digest) => ({ digest }),
+        (error: unknown) => ({ error }),
+      );
+      // Each file of the release goes to storage as soon as it is written, while the next one is
+      // being built; the CSV files stay on disk until the end, for the transport file and the workbook.
       const files: BuiltFile[] = [];
       let storing = Promise.resolve();
       let storeFailure: unknown;
@@ -316,46 +351,26 @@ export class ReleaseService {
             const key = releaseKey(order.studyId, order.releaseId, file.name);
             await this.store.putFile(key, file.path, file.digest, file.contentType);
             stored.push(key);
-            await fs.promises.rm(file.path, { force: true });
           })
           .catch((error: unknown) => {
             storeFailure ??= error;
           });
       };
-      const context = {
-        folder,
-        study: studyFacts,
-        releaseId: order.releaseId,
-        dataCutAt: order.dataCutAt,
-        dataAsOf: asOf,
-        signer: signature,
-        caution: RELEASE_CAUTION,
+      const tableReady = (file: BuiltFile) => {
+        workbookJob.fileComplete(file.path, file.digest.sizeBytes);
+        if (isReleaseFileName(file.name)) storeFile(file);
       };
-      const source = releaseSource(this.repository, study.code, snapshot, MAX_EFFORTS_KEPT);
-      // The workbook is written beside the data files (on another thread when it can), and the
-      // progress bar follows both: each pass over the sessions is one share of the build.
-      const shares = { data: 0, workbook: 0 };
-      const showProgress = () => {
-        job.percent = (BUILD_SHARE * (shares.data + shares.workbook)) / (DATA_PASSES + WORKBOOK_PASSES);
-      };
-      const workbookPath = path.join(folder, 'release.xlsx');
-      workbook = this.startWorkbook(
-        { databaseFile: this.databaseFile ?? '', studyCode: study.code, snapshot, context, filePath: workbookPath },
-        (done, total) => {
-          shares.workbook = (WORKBOOK_PASSES * done) / total;
-          showProgress();
-        },
-        (sessionDone) => writeWorkbookFile(releaseSource(this.repository, study.code, snapshot), context, workbookPath, sessionDone),
+      const tables = await writeTables(
+        releaseSource(this.repository, study.code, plan),
+        context,
+        (phase, sessions, total) => showProgress(phase, phase === TABLE_PHASES.sessions ? 'sessionTables' : 'effortTables', sessions / total),
+        tableReady,
       );
-      const workbookDone = workbook.done.then(
-        (digest) => ({ digest }),
-        (error: unknown) => ({ error }),
-      );
-      const outcome = await buildDataFiles(source, context, (phase, done, total) => {
-        job.phase = phase;
-        shares.data = (DATA_PASSES * done) / total;
-        showProgress();
-      }, storeFile);
+      await writeTransportAndDefine(tables, context, (phase, records, total) => showProgress(phase, 'transport', records / total), storeFile);
+      // Every row was read in the passes over the sessions: checked now, beside the workbook rather than after it.
+      if (this.fingerprintNow(order.studyId, order.scope) !== order.dataFingerprint) {
+        throw new ReleaseProblem('The released data changed while the files were being written (a session was unlocked and changed); ask for the release again.');
+      }
       job.phase = 'Writing the workbook';
       const workbookOutcome = await workbookDone;
       if ('error' in workbookOutcome) throw workbookOutcome.error;
@@ -364,9 +379,6 @@ export class ReleaseService {
       await storing;
       if (storeFailure) throw storeFailure;
       job.percent = 99;
-      if (this.fingerprintNow(order.studyId, order.scope) !== order.dataFingerprint) {
-        throw new ReleaseProblem('The released data changed while the files were being written (a session was unlocked and changed); ask for the release again.');
-      }
       job.phase = 'Writing the manifest';
       const manifest: ReleaseManifest = {
         format: MANIFEST_FORMAT,
@@ -375,7 +387,7 @@ export class ReleaseService {
         study: studyFacts,
         dataAsOf: asOf,
         completedAt: this.clock().toISOString(),
-        counts: outcome.counts,
+        counts: { sessions: tables.counts.sessions, efforts: tables.counts.efforts, reRecords: tables.counts.reRecords },
         files: files
           .map((file) => ({ name: file.name, contentType: file.contentType, sizeBytes: file.digest.sizeBytes, sha256: file.digest.sha256 }))
           .sort((a, b) => (a.name < b.name ? -1 : 1)),
@@ -402,7 +414,7 @@ export class ReleaseService {
       job.percent = 100;
     } catch (error) {
       const message =
-        error instanceof ReleaseProblem || error instanceof AppError
+        error instanceof ReleaseProblem || error instanceof ReleaseDataChanged || error instanceof AppError
           ? error.message
           : 'The release could not be built (an unexpected error; see the server log).';
       this.logger.error({ err: error, releaseId: order.releaseId }, 'release failed');
@@ -500,30 +512,26 @@ export class ReleaseService {
     return study;
   }
 
-  /** The scope's sessions with their locks, final reads (with a stored result) and effort counts. */
+  /** The scope's sessions with their locks and final reads (those with a stored result). */
   private snapshot(studyId: string, scope: ReleaseScope): Snapshot {
     const sessions = sessionsInScope(this.repository.sessionHeads(studyId), scope);
     const finalReads = new Map<string, SignedReadHead>();
-    const results = new Map<string, ReleaseReadResult>();
-    for (const [sessionId, read] of this.finalReads(studyId, sessions)) {
-      const result = read.resultJson ? readResultSchema.safeParse(JSON.parse(read.resultJson)) : undefined;
+    for (const [sessionId, read] of this.finalReads(studyId, sessions, true)) {
       // A signed read without its stored result is not a final read a release can use.
-      if (!result?.success) continue;
-      finalReads.set(sessionId, { ...read, resultJson: null });
-      results.set(read.id, result.data);
+      if (read.resultJson && readResultSchema.safeParse(JSON.parse(read.resultJson)).success) finalReads.set(sessionId, { ...read, resultJson: null });
     }
-    return { sessions, locks: this.repository.activeLocks(studyId), finalReads, results, effortCounts: this.repository.effortCounts(studyId) };
+    return { sessions, locks: this.repository.activeLocks(studyId), finalReads };
   }
 
   /** The fingerprint of the scope's data now, to compare with the one the release was ordered with. */
   private fingerprintNow(studyId: string, scope: ReleaseScope): string {
     const sessions = sessionsInScope(this.repository.sessionHeads(studyId), scope);
-    return dataFingerprint(sessions, this.finalReads(studyId, sessions));
+    return dataFingerprint(sessions, this.finalReads(studyId, sessions, false));
   }
 
-  private finalReads(studyId: string, sessions: readonly SessionHead[]): Map<string, SignedReadHead> {
+  private finalReads(studyId: string, sessions: readonly SessionHead[], withResults: boolean): Map<string, SignedReadHead> {
     const readsBySession = new Map<string, SignedReadHead[]>();
-    for (const read of this.repository.signedReads(studyId)) {
+    for (const read of this.repository.signedReads(studyId, withResults)) {
       const list = readsBySession.get(read.sessionId) ?? [];
       list.push(read);
       readsBySession.set(read.sessionId, list);
@@ -539,7 +547,3 @@ export class ReleaseService {
 
 /** A release that cannot complete for a reason the data manager can act on. */
 class ReleaseProblem extends Error {}
-
-function isReleaseFileName(name: string): boolean {
-  return RELEASE_FILES.some((file) => file.name === name);
-}

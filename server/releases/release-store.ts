@@ -1,14 +1,11 @@
 /**
- * Where release files live: the S3-compatible object store, under `releases/<studyId>/<releaseId>/`.
- * Release files can be hundreds of megabytes, so they go up and come down as streams (the
- * shared ObjectStorage moves whole buffers); small texts such as the manifest use ObjectStorage.
+ * Where release files live: the app's S3-compatible object store, under
+ * `releases/<studyId>/<releaseId>/`. Release files can be hundreds of megabytes, so they go up
+ * from their temporary file and come down as streams, never whole in memory.
  */
 import { createHash } from 'node:crypto';
-import fs from 'node:fs';
 import type { Readable } from 'node:stream';
-import { GetObjectCommand, PutObjectCommand, S3Client } from '@aws-sdk/client-s3';
-import type { AppConfig } from '../config.js';
-import type { ObjectStorage } from '../storage/object-storage.js';
+import { isNotFound, type ObjectStorage } from '../storage/object-storage.js';
 
 /** SHA-256 and size of stored bytes. */
 export interface StoredDigest {
@@ -23,35 +20,11 @@ export function releaseKey(studyId: string, releaseId: string, fileName: string)
 
 /** Release files in the object store, streamed both ways. */
 export class ReleaseStore {
-  private readonly client: S3Client;
-
-  constructor(
-    private readonly storage: ObjectStorage,
-    private readonly settings: AppConfig['storage'],
-  ) {
-    this.client = new S3Client({
-      endpoint: settings.endpoint,
-      region: settings.region,
-      forcePathStyle: settings.forcePathStyle,
-      credentials: { accessKeyId: settings.accessKeyId, secretAccessKey: settings.secretAccessKey },
-      // As in ObjectStorage: no aws-chunked framing, which some S3-compatible stores keep verbatim.
-      requestChecksumCalculation: 'WHEN_REQUIRED',
-      responseChecksumValidation: 'WHEN_REQUIRED',
-    });
-  }
+  constructor(private readonly storage: ObjectStorage) {}
 
   /** Uploads a local file as a stream, with its SHA-256 in the object's metadata. */
   async putFile(key: string, filePath: string, digest: StoredDigest, contentType: string): Promise<void> {
-    await this.client.send(
-      new PutObjectCommand({
-        Bucket: this.settings.bucket,
-        Key: key,
-        Body: fs.createReadStream(filePath),
-        ContentLength: digest.sizeBytes,
-        ContentType: contentType,
-        Metadata: { sha256: digest.sha256 },
-      }),
-    );
+    await this.storage.putFile(key, filePath, digest.sizeBytes, contentType, { sha256: digest.sha256 });
   }
 
   async putText(key: string, text: string, contentType: string): Promise<void> {
@@ -70,13 +43,7 @@ export class ReleaseStore {
 
   /** A stream of the stored bytes, or undefined when there is no such object. */
   async open(key: string): Promise<Readable | undefined> {
-    try {
-      const result = await this.client.send(new GetObjectCommand({ Bucket: this.settings.bucket, Key: key }));
-      return result.Body as Readable;
-    } catch (error) {
-      if (isNotFound(error)) return undefined;
-      throw error;
-    }
+    return this.storage.getStream(key);
   }
 
   /** SHA-256 and size recomputed from the stored bytes, or null when there is no such object. */
@@ -100,14 +67,4 @@ export class ReleaseStore {
   async delete(key: string): Promise<void> {
     await this.storage.delete(key);
   }
-
-  destroy(): void {
-    this.client.destroy();
-  }
-}
-
-function isNotFound(error: unknown): boolean {
-  const name = (error as { name?: string }).name;
-  const status = (error as { $metadata?: { httpStatusCode?: number } }).$metadata?.httpStatusCode;
-  return name === 'NoSuchKey' || name === 'NotFound' || status === 404;
 }

@@ -1,12 +1,13 @@
 /**
  * The release workbook, written with exceljs's streaming WorkbookWriter: a Readme sheet first
  * (study, release, data cut, signer, caution, file list), then one sheet per table, one sheet at
- * a time. Rows are committed as they come, and the writer waits for the zip stream to catch up
- * so that memory stays flat however many rows there are.
+ * a time. Rows come as cells already rounded (read back from the CSV files) and are committed as
+ * they come, and the writer waits for the zip stream to catch up so that memory stays flat
+ * however many rows there are.
  */
 import type { Writable } from 'node:stream';
 import ExcelJS from 'exceljs';
-import { roundTo, type CellValue, type ReleaseColumn } from './release-model.js';
+import type { CellValue, ReleaseColumn } from './release-model.js';
 
 /** Rows Excel holds in one sheet, header included. */
 export const EXCEL_MAX_ROWS = 1_048_576;
@@ -35,7 +36,13 @@ export interface WorkbookReadme {
 
 type SheetWriter = ExcelJS.Worksheet;
 
-/** Writes the workbook to `output` (the caller hashes and stores it). */
+/** A table of the workbook: its sheet title and columns. */
+export interface WorkbookTable {
+  readonly title: string;
+  readonly columns: readonly Pick<ReleaseColumn<never>, 'name'>[];
+}
+
+/** Writes the workbook to `output` (the caller hashes and stores it), one sheet after the other. */
 export class ReleaseWorkbook {
   private readonly workbook: ExcelJS.stream.xlsx.WorkbookWriter;
 
@@ -69,22 +76,31 @@ export class ReleaseWorkbook {
 
   /**
    * One table as one sheet (continued on "Title (2)" … past Excel's row limit): a header row of
-   * column names, then a row per item; decimals rounded as in the CSV file.
+   * column names, then the rows as they come, in blocks; `rowsWritten` hears of each block. An
+   * undefined cell is left out (an empty cell costs nothing then; null would make one).
    */
-  async writeTable<Row>(title: string, columns: readonly ReleaseColumn<Row>[], rows: Iterable<Row> | AsyncIterable<Row>): Promise<number> {
+  async writeTable(
+    table: WorkbookTable,
+    blocks: AsyncIterable<readonly (readonly (CellValue | undefined)[])[]>,
+    rowsWritten: (rows: number) => void = () => undefined,
+  ): Promise<number> {
+    const { title, columns } = table;
     let part = 1;
     let sheet = this.openSheet(title, part, columns);
     let rowsInSheet = 1;
     let written = 0;
-    for await (const row of rows) {
-      if (rowsInSheet === EXCEL_MAX_ROWS) {
-        sheet.commit();
-        sheet = this.openSheet(title, ++part, columns);
-        rowsInSheet = 1;
+    for await (const rows of blocks) {
+      for (const row of rows) {
+        if (rowsInSheet === EXCEL_MAX_ROWS) {
+          sheet.commit();
+          sheet = this.openSheet(title, ++part, columns);
+          rowsInSheet = 1;
+        }
+        sheet.addRow(row as (CellValue | undefined)[]).commit();
+        rowsInSheet++;
+        if (++written % ROWS_PER_BACKLOG_CHECK === 0) await zipCaughtUp(sheet);
       }
-      sheet.addRow(columns.map((column) => excelValue(column, column.value(row)))).commit();
-      rowsInSheet++;
-      if (++written % ROWS_PER_BACKLOG_CHECK === 0) await zipCaughtUp(sheet);
+      rowsWritten(rows.length);
     }
     sheet.commit();
     return written;
@@ -95,7 +111,8 @@ export class ReleaseWorkbook {
     await this.workbook.commit();
   }
 
-  private openSheet<Row>(title: string, part: number, columns: readonly ReleaseColumn<Row>[]): SheetWriter {
+  /** The sheet of a part of a table, with its header row written. */
+  private openSheet(title: string, part: number, columns: WorkbookTable['columns']): SheetWriter {
     const suffix = part === 1 ? '' : ` (${part})`;
     const name = `${title.replace(/[[\]:*?/\\]/g, ' ').slice(0, SHEET_NAME_MAX - suffix.length)}${suffix}`;
     const sheet = this.workbook.addWorksheet(name, { views: [{ state: 'frozen', ySplit: 1 }] });
@@ -103,11 +120,6 @@ export class ReleaseWorkbook {
     sheet.addRow(columns.map((column) => column.name)).commit();
     return sheet;
   }
-}
-
-function excelValue<Row>(column: ReleaseColumn<Row>, value: CellValue): CellValue {
-  if (typeof value === 'number' && column.digits !== undefined) return roundTo(value, column.digits);
-  return value;
 }
 
 /**

@@ -271,6 +271,9 @@ export function emitReRows(session: ReleaseSession, sequence: number, emit: (row
   return sequence;
 }
 
+/** Derived records of each session (REDRVFL = Y): reported FEV1, FVC and FEV1/FVC, and the two grades. */
+export const RE_DERIVED_RECORDS_PER_SESSION = 5;
+
 /** Every RE record of one session as separate arrays, RESEQ from 1 (for tests and small data). */
 export function reRowsOfSession(session: ReleaseSession, sequence = 0): ReRow[] {
   const rows: ReRow[] = [];
@@ -316,9 +319,6 @@ function setCategory(row: ReRow, test: ReTest, value: string): void {
   row[RE.REREASND] = null;
 }
 
-/** Records per effort: seven measurements and two acceptability verdicts. */
-export const RE_RECORDS_PER_EFFORT = 9;
-
 /** Counts RE records per USUBJID, so that RESEQ runs 1, 2, 3 … per subject across sessions. */
 export class ReSequencer {
   private readonly written = new Map<string, number>();
@@ -327,15 +327,5 @@ export class ReSequencer {
   emit(session: ReleaseSession, emit: (row: ReRow) => void): void {
     const usubjid = uniqueSubjectId(session.studyCode, session.subjectCode);
     this.written.set(usubjid, emitReRows(session, this.written.get(usubjid) ?? 0, emit));
-  }
-
-  /**
-   * Emits only the session's derived records, numbered as in the whole domain: the session may
-   * be read without its efforts, whose records are counted from `effortCount`.
-   */
-  emitDerived(session: ReleaseSession, emit: (row: ReRow) => void): void {
-    const usubjid = uniqueSubjectId(session.studyCode, session.subjectCode);
-    const before = (this.written.get(usubjid) ?? 0) + session.effortCount * RE_RECORDS_PER_EFFORT;
-    this.written.set(usubjid, emitReRows({ ...session, efforts: [] }, before, emit));
   }
 }

@@ -149,13 +149,15 @@ function padToRecord(bytes: Buffer): Buffer {
 export class XptObservationEncoder {
   /** Bytes of one observation. */
   readonly observationBytes: number;
-  private readonly offsets: number[];
-  private chunk: Buffer;
-  private used = 0;
+  /** Where each variable's value starts within an observation. */
+  protected readonly offsets: number[];
+  /** The chunk being filled; the next observation starts at {@link used}. */
+  protected chunk: Buffer;
+  protected used = 0;
   private total = 0;
 
   constructor(
-    private readonly variables: readonly XptVariable[],
+    protected readonly variables: readonly XptVariable[],
     chunkBytes = 1 << 20,
   ) {
     this.offsets = [];
@@ -184,13 +186,7 @@ export class XptObservationEncoder {
     for (let index = 0; index < this.variables.length; index++) {
       this.encodeValue(this.variables[index], values[index], start + this.offsets[index]);
     }
-    this.used += this.observationBytes;
-    this.total++;
-    if (this.used + this.observationBytes <= this.chunk.length) return undefined;
-    const full = this.chunk;
-    this.chunk = Buffer.alloc(full.length, 0x20);
-    this.used = 0;
-    return full;
+    return this.completeObservation();
   }
 
   /** The observations not yet handed out, padded with blanks to the end of the last 80-byte record. */
@@ -201,6 +197,17 @@ export class XptObservationEncoder {
     this.chunk.copy(rest, 0, 0, this.used);
     this.used = 0;
     return rest;
+  }
+
+  /** Counts the observation written at {@link used}; returns the chunk when it is full. */
+  protected completeObservation(): Buffer | undefined {
+    this.used += this.observationBytes;
+    this.total++;
+    if (this.used + this.observationBytes <= this.chunk.length) return undefined;
+    const full = this.chunk;
+    this.chunk = Buffer.alloc(full.length, 0x20);
+    this.used = 0;
+    return full;
   }
 
   private encodeValue(variable: XptVariable, value: XptValue, offset: number): void {
@@ -232,7 +239,7 @@ export class XptObservationEncoder {
     }
   }
 
-  private tooLong(variable: XptVariable, text: string): never {
+  protected tooLong(variable: XptVariable, text: string): never {
     throw new RangeError(`${variable.name} holds ${variable.length} characters; "${text}" has ${text.length}`);
   }
 }

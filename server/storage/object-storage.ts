@@ -1,3 +1,5 @@
+import fs from 'node:fs';
+import type { Readable } from 'node:stream';
 import {
   DeleteObjectCommand,
   GetObjectCommand,
@@ -8,6 +10,9 @@ import {
   S3Client,
 } from '@aws-sdk/client-s3';
 import type { AppConfig } from '../config.js';
+
+/** Bytes read from a local file at a time while it is uploaded. */
+const FILE_CHUNK_BYTES = 256 * 1024;
 
 /** The S3-compatible object store, reached only through the AWS SDK (the local fake or a real service). */
 export class ObjectStorage {
@@ -39,10 +44,39 @@ export class ObjectStorage {
     );
   }
 
+  /**
+   * Uploads a local file as a stream, never whole in memory: one PutObject with its length given
+   * up front (multipart uploads would need @aws-sdk/lib-storage, which the app does not carry).
+   */
+  async putFile(key: string, filePath: string, sizeBytes: number, contentType: string, metadata: Record<string, string> = {}): Promise<void> {
+    await this.client.send(
+      new PutObjectCommand({
+        Bucket: this.settings.bucket,
+        Key: key,
+        // Large reads: far fewer chunks (and less CPU) than the default 64 KB for files of hundreds of megabytes.
+        Body: fs.createReadStream(filePath, { highWaterMark: FILE_CHUNK_BYTES }),
+        ContentLength: sizeBytes,
+        ContentType: contentType,
+        Metadata: metadata,
+      }),
+    );
+  }
+
   async get(key: string): Promise<Buffer> {
     const result = await this.client.send(new GetObjectCommand({ Bucket: this.settings.bucket, Key: key }));
     if (!result.Body) throw new Error(`Object ${key} has no body`);
     return Buffer.from(await result.Body.transformToByteArray());
+  }
+
+  /** The stored bytes as a stream, or undefined when there is no such object. */
+  async getStream(key: string): Promise<Readable | undefined> {
+    try {
+      const result = await this.client.send(new GetObjectCommand({ Bucket: this.settings.bucket, Key: key }));
+      return result.Body as Readable | undefined;
+    } catch (error) {
+      if (isNotFound(error)) return undefined;
+      throw error;
+    }
   }
 
   /** The object's user metadata (lower-case keys), or undefined when there is no such object. */
@@ -75,4 +109,11 @@ export class ObjectStorage {
   destroy(): void {
     this.client.destroy();
   }
+}
+
+/** Whether the store answered that the object does not exist. */
+export function isNotFound(error: unknown): boolean {
+  const name = (error as { name?: string }).name;
+  const status = (error as { $metadata?: { httpStatusCode?: number } }).$metadata?.httpStatusCode;
+  return name === 'NoSuchKey' || name === 'NotFound' || status === 404;
 }
