@@ -3,7 +3,8 @@
  * and the release signature, every file against the manifest. Each way of tampering is named.
  */
 import { describe, expect, it } from '@jest/globals';
-import { MANIFEST_FORMAT, manifestText, sha256Hex, verifyRelease, type ReleaseManifest, type VerificationInput } from './manifest.js';
+import { MANIFEST_FORMAT, type ReleaseManifest } from '../../shared/contracts/releases.js';
+import { manifestText, sha256Hex, verifyRelease, type VerificationInput } from './manifest.js';
 
 const FILE_A = { name: 'a.csv', contentType: 'text/csv', sizeBytes: 3, sha256: sha256Hex('abc') };
 const FILE_B = { name: 'b.xpt', contentType: 'application/x-sas-xport', sizeBytes: 2, sha256: sha256Hex('xy') };

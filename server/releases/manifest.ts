@@ -9,63 +9,17 @@
  * breaks the first, and changing a file breaks its hash in the manifest.
  */
 import { createHash } from 'node:crypto';
-import * as z from 'zod';
+import {
+  releaseManifestSchema,
+  type FileCheck,
+  type ReleaseManifest,
+  type ReleaseVerification,
+} from '../../shared/contracts/releases.js';
 import { canonicalJson } from '../signatures/content-hash.js';
-
-export const MANIFEST_FORMAT = 'tidemark-release-manifest/1';
 
 /** The caution that goes with every release. */
 export const RELEASE_CAUTION =
   'Over-read results support, and do not replace, review by qualified staff; the protocol, local regulations and licensed practice prevail.';
-
-const scopeSchema = z.object({
-  siteIds: z.array(z.string()).nullable(),
-  visitCodes: z.array(z.string()).nullable(),
-});
-
-/** What the data manager signs: which locked data, cut when, and a fingerprint of it. */
-export const releaseOrderSchema = z.object({
-  releaseId: z.string(),
-  studyId: z.string(),
-  studyCode: z.string(),
-  scope: scopeSchema,
-  reason: z.string().nullable(),
-  dataCutAt: z.string(),
-  /** SHA-256 over the released sessions, their final reads and versions (see release-service). */
-  dataFingerprint: z.string(),
-  sessionCount: z.number().int(),
-  requestedBy: z.object({ userId: z.string(), printedName: z.string() }),
-});
-export type ReleaseOrder = z.infer<typeof releaseOrderSchema>;
-export type ReleaseScope = z.infer<typeof scopeSchema>;
-
-export const manifestFileSchema = z.object({
-  name: z.string(),
-  contentType: z.string(),
-  sizeBytes: z.number().int().nonnegative(),
-  sha256: z.string().regex(/^[0-9a-f]{64}$/),
-});
-export type ManifestFile = z.infer<typeof manifestFileSchema>;
-
-export const releaseManifestSchema = z.object({
-  format: z.literal(MANIFEST_FORMAT),
-  order: releaseOrderSchema,
-  /** The signature over the order (21 CFR 11.50: printed name, UTC time, meaning). */
-  signature: z.object({
-    signatureId: z.string(),
-    printedName: z.string(),
-    meaning: z.literal('released'),
-    signedAt: z.string(),
-  }),
-  study: z.object({ code: z.string(), title: z.string(), sponsor: z.string() }),
-  /** Latest change in the released data (ISO UTC): the date inside the transport files. */
-  dataAsOf: z.string(),
-  completedAt: z.string(),
-  counts: z.object({ sessions: z.number().int(), efforts: z.number().int(), reRecords: z.number().int() }),
-  files: z.array(manifestFileSchema),
-  caution: z.string(),
-});
-export type ReleaseManifest = z.infer<typeof releaseManifestSchema>;
 
 /** The manifest as stored: canonical JSON (sorted keys), files sorted by name, a final newline. */
 export function manifestText(manifest: ReleaseManifest): string {
@@ -93,25 +47,8 @@ export function parseManifest(text: string): { manifest: ReleaseManifest } | { p
   return { manifest: parsed.data };
 }
 
-/** What verification found for one file. */
-export interface FileCheck {
-  readonly name: string;
-  readonly status: 'intact' | 'tampered' | 'missing';
-  readonly expectedSha256: string;
-  readonly actualSha256: string | null;
-  readonly expectedSizeBytes: number;
-  readonly actualSizeBytes: number | null;
-}
-
-/** The outcome of verifying a stored release. */
-export interface ReleaseVerification {
-  readonly ok: boolean;
-  readonly manifest: 'intact' | 'forged' | 'unreadable' | 'missing';
-  readonly signature: 'valid' | 'invalid' | 'missing';
-  readonly files: FileCheck[];
-  /** Every problem in words, empty when ok. */
-  readonly problems: string[];
-}
+/** The outcome of verifying a stored release, before the service stamps the time of the check. */
+export type ManifestVerification = Omit<ReleaseVerification, 'checkedAt'>;
 
 /** What the service found in storage, the audit trail and the signatures table. */
 export interface VerificationInput {
@@ -130,7 +67,7 @@ export interface VerificationInput {
  * Checks the stored manifest against the audit trail and the signature, then every file against
  * the manifest, and says plainly what was changed.
  */
-export function verifyRelease(input: VerificationInput): ReleaseVerification {
+export function verifyRelease(input: VerificationInput): ManifestVerification {
   const problems: string[] = [];
   if (input.storedText === undefined) {
     problems.push(`The manifest of release ${input.releaseId} is missing from storage.`);
@@ -143,7 +80,7 @@ export function verifyRelease(input: VerificationInput): ReleaseVerification {
   }
   const { manifest } = parsed;
   const storedSha256 = sha256Hex(input.storedText);
-  let manifestStatus: ReleaseVerification['manifest'] = 'intact';
+  let manifestStatus: ManifestVerification['manifest'] = 'intact';
   if (input.recordedSha256 === undefined) {
     manifestStatus = 'forged';
     problems.push(`The audit trail records no completed release ${input.releaseId}: the stored manifest was not written by a release.`);
@@ -158,7 +95,7 @@ export function verifyRelease(input: VerificationInput): ReleaseVerification {
     problems.push(`The stored manifest belongs to release ${manifest.order.releaseId}, not ${input.releaseId}.`);
   }
   const signatureValid = input.signatureValid(manifest);
-  const signature: ReleaseVerification['signature'] = signatureValid === undefined ? 'missing' : signatureValid ? 'valid' : 'invalid';
+  const signature: ManifestVerification['signature'] = signatureValid === undefined ? 'missing' : signatureValid ? 'valid' : 'invalid';
   if (signature === 'missing') problems.push(`The release signature ${manifest.signature.signatureId} named in the manifest does not exist.`);
   if (signature === 'invalid') {
     problems.push('The release order in the manifest (scope, data cut, data fingerprint) is not what was signed: the signature no longer matches.');

@@ -17,7 +17,7 @@ import {
   releaseProgressSchema,
   releaseRequestSchema,
   releaseSummarySchema,
-} from './release-contract.js';
+} from '../../shared/contracts/releases.js';
 import { ReleaseRepository } from './release-repository.js';
 import { ReleaseService } from './release-service.js';
 import { ReleaseStore } from './release-store.js';

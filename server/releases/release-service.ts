@@ -14,6 +14,18 @@ import path from 'node:path';
 import { Readable } from 'node:stream';
 import type { Logger } from 'pino';
 import { readResultSchema } from '../../shared/contracts/reading.js';
+import {
+  MANIFEST_FORMAT,
+  type ManifestFile,
+  type ReleaseManifest,
+  type ReleaseOrder,
+  type ReleaseProgress,
+  type ReleaseRequest,
+  type ReleaseScope,
+  type ReleaseStatus,
+  type ReleaseSummary,
+  type ReleaseVerification,
+} from '../../shared/contracts/releases.js';
 import type { AuditActor, AuditTrail } from '../audit/audit-trail.js';
 import type { Principal } from '../auth/principal.js';
 import { AppError } from '../http/app-error.js';
@@ -28,20 +40,7 @@ import {
   writeTransportAndDefine,
   type BuiltFile,
 } from './release-builder.js';
-import type { ReleaseProgress, ReleaseRequest, ReleaseStatus, ReleaseSummary } from './release-contract.js';
-import {
-  MANIFEST_FORMAT,
-  manifestText,
-  parseManifest,
-  RELEASE_CAUTION,
-  sha256Hex,
-  verifyRelease,
-  type ManifestFile,
-  type ReleaseManifest,
-  type ReleaseOrder,
-  type ReleaseScope,
-  type ReleaseVerification,
-} from './manifest.js';
+import { manifestText, parseManifest, RELEASE_CAUTION, sha256Hex, verifyRelease } from './manifest.js';
 import type { ReleaseRepository, ReleaseStudyRow } from './release-repository.js';
 import {
   blockersMessage,
@@ -229,7 +228,7 @@ export class ReleaseService {
   }
 
   /** The release, its stored manifest and the verification of both against the audit trail and storage. */
-  async detail(studyId: string, releaseId: string): Promise<{ release: ReleaseSummary; manifest: ReleaseManifest | null; verification: (ReleaseVerification & { checkedAt: string }) | null }> {
+  async detail(studyId: string, releaseId: string): Promise<{ release: ReleaseSummary; manifest: ReleaseManifest | null; verification: ReleaseVerification | null }> {
     const release = this.summary(studyId, releaseId);
     if (release.status !== 'complete') return { release, manifest: null, verification: null };
     const storedText = await this.store.getText(releaseKey(studyId, releaseId, MANIFEST_FILE));
@@ -482,7 +481,7 @@ export class ReleaseService {
     const events = this.repository.releaseEvents(studyId, releaseId);
     const request = events.find((event) => event.action === 'request');
     if (!request?.newValue) throw AppError.notFound(`This study has no release ${releaseId}.`);
-    const { order } = JSON.parse(request.newValue) as { order: ReleaseOrder };
+    const { order, signatureId } = JSON.parse(request.newValue) as { order: ReleaseOrder; signatureId: string };
     const complete = events.find((event) => event.action === 'complete');
     const failed = events.find((event) => event.action === 'fail');
     const completed = complete?.newValue
@@ -495,6 +494,7 @@ export class ReleaseService {
       status,
       requestedAt: request.at,
       requestedBy: order.requestedBy.printedName,
+      signature: this.releaseSignature(signatureId, order),
       reason: order.reason,
       scope: order.scope,
       dataCutAt: order.dataCutAt,
@@ -504,6 +504,17 @@ export class ReleaseService {
       files: (completed?.files ?? []).map(({ name, sizeBytes, sha256 }) => ({ name, sizeBytes, sha256 })),
       error: failed?.newValue ? (JSON.parse(failed.newValue) as { error: string }).error : null,
     };
+  }
+
+  /** The manifestation of the signature over the release order, for the list; null when its row is gone. */
+  private releaseSignature(signatureId: string, order: ReleaseOrder): ReleaseSummary['signature'] {
+    try {
+      const shown = this.signatures.manifestation(signatureId, order);
+      return shown.meaning === 'released' ? { signatureId, printedName: shown.printedName, meaning: 'released', signedAt: shown.signedAt } : null;
+    } catch (error) {
+      if (error instanceof AppError && error.status === 404) return null;
+      throw error;
+    }
   }
 
   private requireStudy(studyId: string): ReleaseStudyRow {

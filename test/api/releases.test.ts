@@ -17,7 +17,7 @@ import type { Schedule, SessionDetail } from '../../shared/contracts/sessions.js
 import { SESSION_DOCUMENT_FORMAT, recordingToSessionEffort } from '../../shared/spirometry/session-document.js';
 import { generateSession } from '../../shared/spirometry/synthetic/curve-generator.js';
 import { loadProtocol } from '../../server/protocols/protocol-catalogue.js';
-import type { ReleaseDetail, ReleaseSummary } from '../../server/releases/release-contract.js';
+import type { ReleaseDetail, ReleaseSummary } from '../../shared/contracts/releases.js';
 import { ReleaseFixtureRepository } from '../../server/releases/release-fixture-repository.js';
 import { finalReadRows } from '../../server/releases/release-fixtures.js';
 import { releaseKey } from '../../server/releases/release-store.js';
@@ -190,6 +190,9 @@ describe('a release of locked, finally read data', () => {
 
   it('stores every file with its SHA-256 in a manifest signed "released" by the data manager, and verifies it', () => {
     expect(detail.release).toMatchObject({ status: 'complete', requestedBy: 'Priya Halloran', reason: 'Interim analysis data cut', sessionCount: 3 });
+    // 21 CFR 11.50: the listed release carries its signature's printed name, meaning and UTC time, the manifest's own.
+    expect(detail.release.signature).toEqual(detail.manifest!.signature);
+    expect(detail.release.signature).toMatchObject({ printedName: 'Priya Halloran', meaning: 'released' });
     expect(detail.manifest!.files.map((file) => file.name)).toEqual([
       'define.html',
       'define.json',

@@ -6,15 +6,13 @@ import {
   releaseAcceptedSchema,
   releaseDetailSchema,
   releaseListSchema,
-  releaseManifestSchema,
   releaseProgressSchema,
   type ReleaseAccepted,
   type ReleaseDetail,
-  type ReleaseManifest,
   type ReleaseProgress,
   type ReleaseRequest,
   type ReleaseSummary,
-} from './releases/release-contract';
+} from '@shared/contracts/releases';
 
 /**
  * Typed access to locked dataset releases: the study's releases, asking for one (signed), the
@@ -44,22 +42,6 @@ export class DataOfficeReleasesApi {
         return study && release ? releaseUrl(study, release) : undefined;
       },
       { parse: (body) => releaseDetailSchema.parse(body) },
-    );
-  }
-
-  /**
-   * The stored manifest of a complete release, served only while it matches the SHA-256 the audit
-   * trail recorded (409 `release-tampered` otherwise). Lighter than {@link releaseOf}, which also
-   * reads every file back to verify it.
-   */
-  manifestOf(studyId: () => string | undefined, releaseId: () => string | undefined): HttpResourceRef<ReleaseManifest | undefined> {
-    return httpResource(
-      () => {
-        const study = studyId();
-        const release = releaseId();
-        return study && release ? this.fileUrl(study, release, 'manifest.json') : undefined;
-      },
-      { parse: (body) => releaseManifestSchema.parse(body) },
     );
   }
 

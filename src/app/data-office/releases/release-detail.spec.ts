@@ -5,10 +5,10 @@ import { TestBed, type ComponentFixture } from '@angular/core/testing';
 import { MATERIAL_ANIMATIONS } from '@angular/material/core';
 import { provideRouter } from '@angular/router';
 
+import type { ReleaseDetail, ReleaseProgress } from '@shared/contracts/releases';
 import type { Site } from '@shared/contracts/studies';
 import { errorInterceptor } from '../../core/http/error-interceptor';
 import { CAUTION_TEXT } from '../../ui/caution-note/caution-note';
-import type { ReleaseDetail, ReleaseProgress } from './release-contract';
 import { ReleaseDetailPage } from './release-detail';
 import { RELEASE_POLL_INTERVAL_MS } from './release-progress';
 
@@ -27,6 +27,7 @@ const COMPLETE: ReleaseDetail = {
     status: 'complete',
     requestedAt: '2025-03-01T10:00:01.000Z',
     requestedBy: 'Wren Halloway',
+    signature: { signatureId: 'signature-1', printedName: 'Wren Halloway', meaning: 'released', signedAt: '2025-03-01T10:00:00.500Z' },
     reason: 'Interim analysis',
     scope: { siteIds: ['site-101'], visitCodes: null },
     dataCutAt: '2025-03-01T10:00:00.000Z',

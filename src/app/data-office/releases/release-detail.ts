@@ -5,11 +5,11 @@ import { MatProgressBar } from '@angular/material/progress-bar';
 import { MatTableModule } from '@angular/material/table';
 import { RouterLink } from '@angular/router';
 
+import type { FileCheck, ManifestFile, ReleaseManifest, ReleaseVerification } from '@shared/contracts/releases';
 import { CautionNote } from '../../ui/caution-note/caution-note';
 import { DataOfficeLocksApi } from '../data-office-locks-api';
 import { DataOfficeReleasesApi } from '../data-office-releases-api';
 import { signatureLine, utcText } from '../locks/lock-request';
-import type { FileCheck, ManifestFile, ReleaseManifest, ReleaseVerification } from './release-contract';
 import { ReleaseProgressView } from './release-progress';
 import { RELEASE_STATUS_LABELS, fileContents, scopeText, sizeText } from './release-request';
 

@@ -4,9 +4,9 @@ import { MatIcon } from '@angular/material/icon';
 import { MatProgressBar } from '@angular/material/progress-bar';
 import { EMPTY, catchError, exhaustMap, retry, switchMap, takeWhile, throwError, timer } from 'rxjs';
 
+import type { ReleaseProgress } from '@shared/contracts/releases';
 import { ApiError } from '../../core/http/api-error';
 import { DataOfficeReleasesApi } from '../data-office-releases-api';
-import type { ReleaseProgress } from './release-contract';
 
 /** How often a running release's progress is asked for. */
 export const RELEASE_POLL_INTERVAL_MS = new InjectionToken<number>('RELEASE_POLL_INTERVAL_MS', { factory: () => 1000 });

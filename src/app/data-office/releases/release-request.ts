@@ -1,4 +1,4 @@
-import { MAX_RELEASE_REASON_LENGTH, type ReleaseRequest, type ReleaseScope, type ReleaseStatus } from './release-contract';
+import { MAX_RELEASE_REASON_LENGTH, type ReleaseRequest, type ReleaseScope, type ReleaseStatus } from '@shared/contracts/releases';
 
 /** The releases page's own path: the re-authentication round trip comes back here. */
 export const RELEASES_PAGE_PATH = '/data-office/releases';

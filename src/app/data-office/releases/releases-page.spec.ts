@@ -7,12 +7,12 @@ import { MATERIAL_ANIMATIONS } from '@angular/material/core';
 import { MatSelectHarness } from '@angular/material/select/testing';
 import { Router, provideRouter } from '@angular/router';
 
+import type { ReleaseProgress, ReleaseSummary } from '@shared/contracts/releases';
 import type { Schedule } from '@shared/contracts/sessions';
 import type { Site } from '@shared/contracts/studies';
 import { loadSession, meWithRoles } from '../../../testing/session-testing';
 import { errorInterceptor } from '../../core/http/error-interceptor';
 import { PageLeave } from '../locks/page-leave';
-import type { ReleaseManifest, ReleaseProgress, ReleaseSummary } from './release-contract';
 import { RELEASE_POLL_INTERVAL_MS } from './release-progress';
 import { ReleasesPage } from './releases-page';
 
@@ -38,6 +38,8 @@ const COMPLETE: ReleaseSummary = {
   status: 'complete',
   requestedAt: '2025-03-01T10:00:00.000Z',
   requestedBy: 'Wren Halloway',
+  // Signed a little before the request was audited: the row shows the signing time.
+  signature: { signatureId: 'signature-1', printedName: 'Wren Halloway', meaning: 'released', signedAt: '2025-03-01T09:59:59.400Z' },
   reason: 'Interim analysis',
   scope: { siteIds: ['site-101'], visitCodes: ['V2'] },
   dataCutAt: '2025-03-01T10:00:00.000Z',
@@ -61,28 +63,6 @@ const progress = (overrides: Partial<ReleaseProgress>): ReleaseProgress => ({
   sessionCount: 12,
   error: null,
   ...overrides,
-});
-/** The stored manifest of a complete release: signed a little before the request was audited. */
-const manifestOf = (release: ReleaseSummary): ReleaseManifest => ({
-  format: 'tidemark-release-manifest/1',
-  order: {
-    releaseId: release.releaseId,
-    studyId: 'study-1',
-    studyCode: 'TM-DEMO-1',
-    scope: release.scope,
-    reason: release.reason,
-    dataCutAt: release.dataCutAt,
-    dataFingerprint: 'd'.repeat(64),
-    sessionCount: release.sessionCount,
-    requestedBy: { userId: 'user-1', printedName: release.requestedBy },
-  },
-  signature: { signatureId: 'signature-1', printedName: release.requestedBy, meaning: 'released', signedAt: '2025-03-01T09:59:59.400Z' },
-  study: { code: 'TM-DEMO-1', title: 'A fictional study', sponsor: 'A fictional sponsor' },
-  dataAsOf: '2025-02-28T12:00:00.000Z',
-  completedAt: release.completedAt ?? '2025-03-01T10:00:04.000Z',
-  counts: { sessions: release.sessionCount, efforts: 36, reRecords: 384 },
-  files: release.files.map((file) => ({ ...file, contentType: 'text/csv' })),
-  caution: 'Over-read results support, and do not replace, review by qualified staff.',
 });
 const RUNNING: ReleaseSummary = { ...COMPLETE, releaseId: RELEASE_ID, status: 'running', completedAt: null, manifestSha256: null, files: [], reason: null, scope: { siteIds: null, visitCodes: null } };
 
@@ -109,7 +89,7 @@ describe('ReleasesPage', () => {
 
   afterEach(() => backend.verify());
 
-  /** Creates the page with these query parameters and answers its first reads, then the manifests its rows read. */
+  /** Creates the page with these query parameters and answers its first reads. */
   async function open(query: Record<string, string | string[]> = {}, list: ReleaseSummary[] = [COMPLETE]): Promise<void> {
     fixture = TestBed.createComponent(ReleasesPage);
     for (const [name, value] of Object.entries(query)) fixture.componentRef.setInput(name, value);
@@ -122,10 +102,6 @@ describe('ReleasesPage', () => {
     reads(`${STUDY}/releases`).forEach((request) => request.flush(list));
     reads(`${STUDY}/sites`).forEach((request) => request.flush(SITES));
     reads(`${STUDY}/schedule`).forEach((request) => request.flush(SCHEDULE));
-    // Each complete release's row reads its manifest for the signing time.
-    for (const release of list.filter((entry) => entry.status === 'complete')) {
-      reads(`${STUDY}/releases/${release.releaseId}/files/manifest.json`).forEach((request) => request.flush(manifestOf(release)));
-    }
   }
 
   /**
@@ -177,7 +153,7 @@ describe('ReleasesPage', () => {
     const row = (fixture.nativeElement as HTMLElement).querySelector('[data-testid="release-row"]')!.textContent!.replace(/\s+/g, ' ');
     expect(row).toContain(COMPLETE.releaseId);
     expect(row).toContain('“Interim analysis”');
-    // The signing time comes from the manifest, not the time the request was audited.
+    // The signing time is the signature's, not the time the request was audited.
     expect(row).toContain('Wren Halloway · Released · 2025-03-01 09:59:59 UTC');
     expect(row).toContain('Site 101 · visit V2');
     expect(row).toContain('12 sessions');

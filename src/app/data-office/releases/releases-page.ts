@@ -8,13 +8,13 @@ import { MatOption, MatSelect } from '@angular/material/select';
 import { MatTableModule } from '@angular/material/table';
 import { Router, RouterLink } from '@angular/router';
 
+import { MAX_RELEASE_REASON_LENGTH, type ReleaseProgress, type ReleaseSummary } from '@shared/contracts/releases';
 import { AuthSession } from '../../core/auth/auth-session';
 import { ApiError } from '../../core/http/api-error';
 import { DataOfficeLocksApi, needsReauthentication, reauthenticateUrl } from '../data-office-locks-api';
 import { DataOfficeReleasesApi } from '../data-office-releases-api';
 import { reauthenticationProblem, utcText } from '../locks/lock-request';
 import { PageLeave } from '../locks/page-leave';
-import { MAX_RELEASE_REASON_LENGTH, type ReleaseProgress, type ReleaseSummary } from './release-contract';
 import { ReleaseProgressView } from './release-progress';
 import { ReleaseSignature } from './release-signature';
 import {

@@ -1,25 +1,31 @@
 /**
- * The release routes' request and answers as the web client reads them. The server keeps its own
- * copy in server/releases/release-contract.ts and manifest.ts, which src/ may not import (and
- * manifest.ts needs node:crypto); these schemas follow them field for field until both move to
- * shared/contracts/releases.ts. Unknown fields are dropped by zod, so a server that adds one
- * does not break the page.
+ * Request and response shapes of the locked-dataset release routes and the stored release
+ * manifest, shared by the server and the data office's pages.
  */
 import * as z from 'zod';
 
-/** `POST /api/studies/:studyId/releases`: sites (by id) and visits (by code); the whole study when absent. */
-export interface ReleaseRequest {
-  readonly scope?: { readonly siteIds?: string[]; readonly visitCodes?: string[] };
-  readonly reason?: string;
-}
+const code = z.string().trim().min(1).max(64);
 
-/** The server's longest release reason. */
+/** The longest reason a release request may carry. */
 export const MAX_RELEASE_REASON_LENGTH = 500;
+
+/** `POST /api/studies/:studyId/releases`. */
+export const releaseRequestSchema = z.object({
+  /** Part of the study to release; the whole study when absent. */
+  scope: z
+    .object({
+      siteIds: z.array(code).min(1).max(500).optional(),
+      visitCodes: z.array(code).min(1).max(200).optional(),
+    })
+    .optional(),
+  reason: z.string().trim().max(MAX_RELEASE_REASON_LENGTH).optional(),
+});
+export type ReleaseRequest = z.infer<typeof releaseRequestSchema>;
 
 export const releaseStatusSchema = z.enum(['running', 'complete', 'failed', 'interrupted']);
 export type ReleaseStatus = z.infer<typeof releaseStatusSchema>;
 
-/** Where a release job stands. */
+/** Where a release job stands; poll it while it runs. */
 export const releaseProgressSchema = z.object({
   releaseId: z.string(),
   status: releaseStatusSchema,
@@ -34,9 +40,21 @@ export const releaseProgressSchema = z.object({
 });
 export type ReleaseProgress = z.infer<typeof releaseProgressSchema>;
 
-const releaseScopeSchema = z.object({ siteIds: z.array(z.string()).nullable(), visitCodes: z.array(z.string()).nullable() });
 /** Sites (by id) and visits (by code) of a release; null means all. */
+export const releaseScopeSchema = z.object({
+  siteIds: z.array(z.string()).nullable(),
+  visitCodes: z.array(z.string()).nullable(),
+});
 export type ReleaseScope = z.infer<typeof releaseScopeSchema>;
+
+/** The signature over a release order (21 CFR 11.50: printed name, UTC time, meaning). */
+export const releaseSignatureSchema = z.object({
+  signatureId: z.string(),
+  printedName: z.string(),
+  meaning: z.literal('released'),
+  signedAt: z.string(),
+});
+export type ReleaseSignature = z.infer<typeof releaseSignatureSchema>;
 
 /** One release as listed. `requestedBy` is the printed name of who signed the release order. */
 export const releaseSummarySchema = z.object({
@@ -44,6 +62,8 @@ export const releaseSummarySchema = z.object({
   status: releaseStatusSchema,
   requestedAt: z.string(),
   requestedBy: z.string(),
+  /** The signature of the release order; null only when its row cannot be found. */
+  signature: releaseSignatureSchema.nullable(),
   reason: z.string().nullable(),
   scope: releaseScopeSchema,
   dataCutAt: z.string(),
@@ -57,7 +77,7 @@ export type ReleaseSummary = z.infer<typeof releaseSummarySchema>;
 
 export const releaseListSchema = z.array(releaseSummarySchema);
 
-/** The answer to a release request: the release as accepted and its job's progress. */
+/** `POST` answer: the release as accepted, with the job's progress. */
 export const releaseAcceptedSchema = z.object({
   release: releaseSummarySchema,
   progress: releaseProgressSchema,
@@ -65,35 +85,38 @@ export const releaseAcceptedSchema = z.object({
 });
 export type ReleaseAccepted = z.infer<typeof releaseAcceptedSchema>;
 
-const manifestFileSchema = z.object({
+export const MANIFEST_FORMAT = 'tidemark-release-manifest/1';
+
+/** What the data manager signs: which locked data, cut when, and a fingerprint of it. */
+export const releaseOrderSchema = z.object({
+  releaseId: z.string(),
+  studyId: z.string(),
+  studyCode: z.string(),
+  scope: releaseScopeSchema,
+  reason: z.string().nullable(),
+  dataCutAt: z.string(),
+  /** SHA-256 over the released sessions, their final reads and versions. */
+  dataFingerprint: z.string(),
+  sessionCount: z.number().int(),
+  requestedBy: z.object({ userId: z.string(), printedName: z.string() }),
+});
+export type ReleaseOrder = z.infer<typeof releaseOrderSchema>;
+
+export const manifestFileSchema = z.object({
   name: z.string(),
   contentType: z.string(),
   sizeBytes: z.number().int().nonnegative(),
-  sha256: z.string(),
+  sha256: z.string().regex(/^[0-9a-f]{64}$/),
 });
 export type ManifestFile = z.infer<typeof manifestFileSchema>;
 
-/** The stored manifest: the signed release order, the signature (21 CFR 11.50), the files with their SHA-256. */
+/** The manifest stored beside the files: the signed order, the signature and every file with its SHA-256. */
 export const releaseManifestSchema = z.object({
-  format: z.string(),
-  order: z.object({
-    releaseId: z.string(),
-    studyId: z.string(),
-    studyCode: z.string(),
-    scope: releaseScopeSchema,
-    reason: z.string().nullable(),
-    dataCutAt: z.string(),
-    dataFingerprint: z.string(),
-    sessionCount: z.number().int(),
-    requestedBy: z.object({ userId: z.string(), printedName: z.string() }),
-  }),
-  signature: z.object({
-    signatureId: z.string(),
-    printedName: z.string(),
-    meaning: z.literal('released'),
-    signedAt: z.string(),
-  }),
+  format: z.literal(MANIFEST_FORMAT),
+  order: releaseOrderSchema,
+  signature: releaseSignatureSchema,
   study: z.object({ code: z.string(), title: z.string(), sponsor: z.string() }),
+  /** Latest change in the released data (ISO UTC): the date inside the transport files. */
   dataAsOf: z.string(),
   completedAt: z.string(),
   counts: z.object({ sessions: z.number().int(), efforts: z.number().int(), reRecords: z.number().int() }),
@@ -102,7 +125,8 @@ export const releaseManifestSchema = z.object({
 });
 export type ReleaseManifest = z.infer<typeof releaseManifestSchema>;
 
-const fileCheckSchema = z.object({
+/** What verification found for one file. */
+export const fileCheckSchema = z.object({
   name: z.string(),
   status: z.enum(['intact', 'tampered', 'missing']),
   expectedSha256: z.string(),
@@ -112,18 +136,19 @@ const fileCheckSchema = z.object({
 });
 export type FileCheck = z.infer<typeof fileCheckSchema>;
 
-/** The server's check of the stored release against the audit trail, the signature and the manifest, made when it was read. */
+/** The server's check of a stored release against the audit trail, its signature and its manifest, made when it was read. */
 export const releaseVerificationSchema = z.object({
   ok: z.boolean(),
   manifest: z.enum(['intact', 'forged', 'unreadable', 'missing']),
   signature: z.enum(['valid', 'invalid', 'missing']),
   files: z.array(fileCheckSchema),
+  /** Every problem in words, empty when ok. */
   problems: z.array(z.string()),
   checkedAt: z.string(),
 });
 export type ReleaseVerification = z.infer<typeof releaseVerificationSchema>;
 
-/** `GET .../releases/:releaseId`: the release, its manifest (null until complete or when unreadable) and the verification. */
+/** `GET .../releases/:releaseId`: the release, its manifest as stored (null until complete or when unreadable) and the verification. */
 export const releaseDetailSchema = z.object({
   release: releaseSummarySchema,
   manifest: releaseManifestSchema.nullable(),
