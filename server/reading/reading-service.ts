@@ -53,6 +53,9 @@ const BLIND_CODE_ALPHABET = 'ABCDEFGHJKLMNPQRSTUVWXYZ23456789';
  * the single design's read is final at once, other reads go to the comparison.
  */
 export class ReadingService {
+  /** Curves being prepared after a claim, awaited at shutdown. */
+  private readonly preparing = new Set<Promise<void>>();
+
   constructor(
     private readonly repository: ReadingRepository,
     private readonly sessions: SessionRepository,
@@ -147,9 +150,21 @@ export class ReadingService {
    * failure here is only logged; the page's own request reports it.
    */
   prepareCurves(read: ReadRow): void {
-    this.uploads.curves(read.studyId, read.sessionId, { allSites: true }).catch((error: unknown) => {
-      this.logger.warn({ readId: read.id, error: error instanceof Error ? error.message : String(error) }, 'Curves of a claimed read could not be prepared');
-    });
+    const preparing = this.uploads
+      .curves(read.studyId, read.sessionId, { allSites: true })
+      .then(
+        () => undefined,
+        (error: unknown) => {
+          this.logger.warn({ readId: read.id, error: error instanceof Error ? error.message : String(error) }, 'Curves of a claimed read could not be prepared');
+        },
+      )
+      .finally(() => this.preparing.delete(preparing));
+    this.preparing.add(preparing);
+  }
+
+  /** Waits for curves still being prepared (shutdown, tests): storage must not close under them. */
+  async settle(): Promise<void> {
+    while (this.preparing.size > 0) await Promise.allSettled([...this.preparing]);
   }
 
   /** Saves the whole draft; 409 'stale-read' naming what differs when the read was saved elsewhere meanwhile. */
