@@ -115,7 +115,6 @@ export async function startTidemark(
     };
     const { app, services } = createApp(deps);
     closers.push(() => services.messages.settle());
-    closers.push(() => services.reading.settle());
     // Before the first request: files stored by requests that died before their commit are applied now.
     try {
       // Before the sweep, whose own receipts would otherwise be sent twice.

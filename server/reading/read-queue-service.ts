@@ -121,7 +121,6 @@ export class ReadQueueService {
       }
       return created;
     });
-    this.reading.prepareCurves(read);
     return this.reading.workspaceOf(read);
   }
 

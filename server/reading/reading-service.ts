@@ -53,9 +53,6 @@ const BLIND_CODE_ALPHABET = 'ABCDEFGHJKLMNPQRSTUVWXYZ23456789';
  * the single design's read is final at once, other reads go to the comparison.
  */
 export class ReadingService {
-  /** Curves being prepared after a claim, awaited at shutdown. */
-  private readonly preparing = new Set<Promise<void>>();
-
   constructor(
     private readonly repository: ReadingRepository,
     private readonly sessions: SessionRepository,
@@ -141,30 +138,6 @@ export class ReadingService {
       throw new AppError(error.status, error.code, 'The curves of this read cannot be drawn now; try again later or tell the data manager.');
     }
     return { efforts: curves.efforts.map((effort) => ({ ...effort, label: effortLabel(effort.index) })) };
-  }
-
-  /**
-   * Starts computing the curves of a read just claimed, without waiting: decoding the stored file
-   * and drawing its plot series takes the server a noticeable while, and the reader's page asks
-   * for the curves moments later, so that request finds them in the upload service's cache. A
-   * failure here is only logged; the page's own request reports it.
-   */
-  prepareCurves(read: ReadRow): void {
-    const preparing = this.uploads
-      .curves(read.studyId, read.sessionId, { allSites: true })
-      .then(
-        () => undefined,
-        (error: unknown) => {
-          this.logger.warn({ readId: read.id, error: error instanceof Error ? error.message : String(error) }, 'Curves of a claimed read could not be prepared');
-        },
-      )
-      .finally(() => this.preparing.delete(preparing));
-    this.preparing.add(preparing);
-  }
-
-  /** Waits for curves still being prepared (shutdown, tests): storage must not close under them. */
-  async settle(): Promise<void> {
-    while (this.preparing.size > 0) await Promise.allSettled([...this.preparing]);
   }
 
   /** Saves the whole draft; 409 'stale-read' naming what differs when the read was saved elsewhere meanwhile. */
