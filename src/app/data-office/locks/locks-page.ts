@@ -10,8 +10,8 @@ import type { Observable } from 'rxjs';
 
 import { LOCK_SCOPE_LABELS, lockScopeSchema, type LockScope, type LockView } from '@shared/contracts/locks';
 import type { SessionSummary } from '@shared/contracts/sessions';
-import { AuthSession } from '../../core/auth/auth-session';
 import { ApiError } from '../../core/http/api-error';
+import { DataManagerStudies } from '../data-manager-studies';
 import { DataOfficeLocksApi, needsReauthentication, reauthenticateUrl } from '../data-office-locks-api';
 import { LockHistory, type UnlockDraft, type UnlockRequest } from './lock-history';
 import {
@@ -50,7 +50,6 @@ export class LocksPage implements OnInit {
   private readonly destroyRef = inject(DestroyRef);
   private readonly router = inject(Router);
   private readonly pageLeave = inject(PageLeave);
-  private readonly session = inject(AuthSession);
 
   // Query parameters (route input binding): the study, and a signing action coming back from re-authentication.
   readonly study = input<string | undefined>(undefined);
@@ -62,13 +61,10 @@ export class LocksPage implements OnInit {
   readonly lockId = input<string | undefined>(undefined);
   readonly reauthentication = input<string | undefined>(undefined);
 
-  protected readonly studies = computed(() => this.session.assignmentsFor('data-manager'));
-  private readonly chosenStudyId = signal<string | undefined>(undefined);
-  protected readonly currentStudy = computed(() => {
-    const studies = this.studies();
-    return studies.find((study) => study.studyId === this.chosenStudyId()) ?? studies[0];
-  });
-  protected readonly studyId = computed(() => this.currentStudy()?.studyId);
+  private readonly dataManagerStudies = new DataManagerStudies();
+  protected readonly studies = this.dataManagerStudies.all;
+  protected readonly currentStudy = this.dataManagerStudies.current;
+  protected readonly studyId = this.dataManagerStudies.currentId;
 
   protected readonly locks = this.api.locksOf(() => this.studyId());
   protected readonly sites = this.api.sitesOf(() => this.studyId());
@@ -101,7 +97,7 @@ export class LocksPage implements OnInit {
 
   ngOnInit(): void {
     // Read once: after the query is cleared below, the form keeps what the user had entered.
-    this.chosenStudyId.set(this.study());
+    this.dataManagerStudies.choose(this.study());
     const pending = pendingFrom({
       study: this.study(),
       pending: this.pending(),
@@ -129,7 +125,7 @@ export class LocksPage implements OnInit {
   }
 
   protected chooseStudy(studyId: string): void {
-    this.chosenStudyId.set(studyId);
+    this.dataManagerStudies.choose(studyId);
     this.formTarget.set('');
     this.searchedCode.set(undefined);
   }

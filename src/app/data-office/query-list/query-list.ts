@@ -18,8 +18,8 @@ import { MatOption, MatSelect } from '@angular/material/select';
 import type { Observable } from 'rxjs';
 
 import type { Query } from '@shared/contracts/reading';
-import { AuthSession } from '../../core/auth/auth-session';
 import { ApiError } from '../../core/http/api-error';
+import { DataManagerStudies } from '../data-manager-studies';
 import { DataOfficeApi, type QueryStatusFilter } from '../data-office-api';
 import { OpenQuery } from '../open-query/open-query';
 
@@ -59,18 +59,14 @@ const MIN_MESSAGE_LENGTH = 2;
 export class QueryListPage {
   private readonly api = inject(DataOfficeApi);
   private readonly destroyRef = inject(DestroyRef);
-  private readonly session = inject(AuthSession);
 
   /** From the route's `?subjectCode=`: prefills the form that opens a query. */
   readonly subjectCode = input<string | undefined>(undefined);
 
-  protected readonly studies = computed(() => this.session.assignmentsFor('data-manager'));
-  private readonly chosenStudyId = signal<string | null>(null);
-  protected readonly study = computed(() => {
-    const studies = this.studies();
-    return studies.find((study) => study.studyId === this.chosenStudyId()) ?? studies[0];
-  });
-  protected readonly studyId = computed(() => this.study()?.studyId);
+  private readonly dataManagerStudies = new DataManagerStudies();
+  protected readonly studies = this.dataManagerStudies.all;
+  protected readonly study = this.dataManagerStudies.current;
+  protected readonly studyId = this.dataManagerStudies.currentId;
 
   protected readonly status = signal<QueryStatusFilter>('all');
   protected readonly queries = this.api.queriesOf(
@@ -90,7 +86,7 @@ export class QueryListPage {
   protected readonly statusLabels = QUERY_STATUS_LABELS;
 
   protected chooseStudy(studyId: string): void {
-    this.chosenStudyId.set(studyId);
+    this.dataManagerStudies.choose(studyId);
   }
 
   protected draftOf(queryId: string): string {

@@ -9,8 +9,8 @@ import { MatTableModule } from '@angular/material/table';
 import { Router, RouterLink } from '@angular/router';
 
 import { MAX_RELEASE_REASON_LENGTH, type ReleaseProgress, type ReleaseSummary } from '@shared/contracts/releases';
-import { AuthSession } from '../../core/auth/auth-session';
 import { ApiError } from '../../core/http/api-error';
+import { DataManagerStudies } from '../data-manager-studies';
 import { DataOfficeLocksApi, needsReauthentication, reauthenticateUrl } from '../data-office-locks-api';
 import { DataOfficeReleasesApi } from '../data-office-releases-api';
 import { reauthenticationProblem, utcText } from '../locks/lock-request';
@@ -68,7 +68,6 @@ export class ReleasesPage implements OnInit {
   private readonly destroyRef = inject(DestroyRef);
   private readonly router = inject(Router);
   private readonly pageLeave = inject(PageLeave);
-  private readonly session = inject(AuthSession);
 
   // Query parameters (route input binding): the study, and a release coming back from re-authentication.
   readonly study = input<string | undefined>(undefined);
@@ -78,13 +77,10 @@ export class ReleasesPage implements OnInit {
   readonly reason = input<string | undefined>(undefined);
   readonly reauthentication = input<string | undefined>(undefined);
 
-  protected readonly studies = computed(() => this.session.assignmentsFor('data-manager'));
-  private readonly chosenStudyId = signal<string | undefined>(undefined);
-  protected readonly currentStudy = computed(() => {
-    const studies = this.studies();
-    return studies.find((study) => study.studyId === this.chosenStudyId()) ?? studies[0];
-  });
-  protected readonly studyId = computed(() => this.currentStudy()?.studyId);
+  private readonly dataManagerStudies = new DataManagerStudies();
+  protected readonly studies = this.dataManagerStudies.all;
+  protected readonly currentStudy = this.dataManagerStudies.current;
+  protected readonly studyId = this.dataManagerStudies.currentId;
 
   protected readonly releases = this.api.releasesOf(() => this.studyId());
   protected readonly sites = this.locksApi.sitesOf(() => this.studyId());
@@ -120,7 +116,7 @@ export class ReleasesPage implements OnInit {
 
   ngOnInit(): void {
     // Read once: after the query is cleared below, the form keeps what the user had entered.
-    this.chosenStudyId.set(this.study());
+    this.dataManagerStudies.choose(this.study());
     const pending = pendingFrom({ study: this.study(), pending: this.pending(), site: this.site(), visit: this.visit(), reason: this.reason() });
     if (!pending) return;
     this.formSiteIds.set([...pending.siteIds]);
@@ -135,7 +131,7 @@ export class ReleasesPage implements OnInit {
   }
 
   protected chooseStudy(studyId: string): void {
-    this.chosenStudyId.set(studyId);
+    this.dataManagerStudies.choose(studyId);
     this.formSiteIds.set([]);
     this.formVisitCodes.set([]);
     this.followed.set(null);
