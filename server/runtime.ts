@@ -3,13 +3,13 @@ import type { AddressInfo } from 'node:net';
 import path from 'node:path';
 import type { Express } from 'express';
 import { pino, type Logger } from 'pino';
-import { startStorageFake, type StorageFake } from '../storage-fake/s3-fake.js';
+import type { StorageFake } from '../storage-fake/s3-fake.js';
 import { createApp, type AppDependencies, type AppServices } from './app.js';
 import { OidcRelyingParty } from './auth/oidc-relying-party.js';
 import type { AppConfig } from './config.js';
 import { openDatabase } from './db/database.js';
-import { startFakeIdentityProvider, type FakeIdentityProvider } from './dev-fakes/identity-provider.js';
-import { startMailCatcher, type MailCatcher } from './dev-fakes/mail-catcher.js';
+import type { FakeIdentityProvider } from './dev-fakes/identity-provider.js';
+import type { MailCatcher } from './dev-fakes/mail-catcher.js';
 import { Mailer } from './mail/mailer.js';
 import { seedDemoSessions, seedDemoStudy } from './seed/demo-seed.js';
 import { DEMO_PASSWORD, DEMO_USERS } from './seed/demo-study.js';
@@ -51,7 +51,9 @@ export async function startTidemark(
       }),
   ];
   try {
+    // Each fake is loaded only when it is used: a deployment on hosted services carries none of their code.
     if (!config.storage.endpoint) {
+      const { startStorageFake } = await import('../storage-fake/s3-fake.js');
       fakes.storage = await startStorageFake({
         port: config.storage.fakePort,
         directory: path.join(config.dataDir, 'storage'),
@@ -61,6 +63,7 @@ export async function startTidemark(
       config.storage.endpoint = fakes.storage.endpoint;
     }
     if (!config.identity.issuer) {
+      const { startFakeIdentityProvider } = await import('./dev-fakes/identity-provider.js');
       fakes.identity = await startFakeIdentityProvider({
         port: config.identity.fakePort,
         accounts: DEMO_USERS.map((user) => ({ email: user.email, name: user.name, password: DEMO_PASSWORD })),
@@ -79,6 +82,7 @@ export async function startTidemark(
       config.identity.issuer = fakes.identity.issuer;
     }
     if (!config.mail.smtpUrl) {
+      const { startMailCatcher } = await import('./dev-fakes/mail-catcher.js');
       fakes.mail = await startMailCatcher({ port: config.mail.fakePort, folder: path.join(config.dataDir, 'mail') });
       closers.push(() => fakes.mail!.close());
       config.mail.smtpUrl = fakes.mail.smtpUrl;

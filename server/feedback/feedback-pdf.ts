@@ -1,4 +1,3 @@
-import PDFDocument from 'pdfkit';
 import type { SiteFeedback } from '../../shared/contracts/reading.js';
 import type { SessionCurves } from '../../shared/contracts/sessions.js';
 import { drawChart, thinCurve, type CurveSeries } from './feedback-pdf-chart.js';
@@ -53,7 +52,9 @@ const VERDICT_WORDS: Readonly<Record<string, string>> = {
  * Renders the site's over-read feedback as an A4 PDF: session reference, grades, reported values,
  * coaching per effort, the curves drawn as vector paths, the signature and the caution.
  */
-export function renderFeedbackPdf(report: FeedbackReport): Promise<Buffer> {
+export async function renderFeedbackPdf(report: FeedbackReport): Promise<Buffer> {
+  // Loaded at the first report, not at start: pdfkit and its fonts take some 15 MB the server needs only then.
+  const { default: PDFDocument } = await import('pdfkit');
   const doc = new PDFDocument({
     size: 'A4',
     margin: MARGIN,

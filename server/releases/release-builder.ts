@@ -229,9 +229,21 @@ export async function writeTransportAndDefine(tables: TablesOutcome, context: Bu
   const xpt = sink('re.xpt');
   await xpt.write(xptHeader({ name: 'RE', label: 'Respiratory System Findings', variables, createdAt: new Date(context.dataAsOf) }));
   const transcoder = new XptCsvTranscoder(variables);
-  for await (const bytes of fs.createReadStream(tables.files.re, { highWaterMark: READ_BLOCK_BYTES })) {
-    for (const chunk of transcoder.push(bytes as Buffer)) await xpt.write(chunk);
-    progress(phase, transcoder.count, total);
+  // One read block and a few output chunks, reused: about 500 MB pass through here.
+  const block = Buffer.allocUnsafe(READ_BLOCK_BYTES);
+  const csv = await fs.promises.open(tables.files.re, 'r');
+  try {
+    for (;;) {
+      const { bytesRead } = await csv.read(block, 0, block.length, null);
+      if (bytesRead === 0) break;
+      for (const chunk of transcoder.push(block.subarray(0, bytesRead))) {
+        await xpt.writeThrough(chunk);
+        transcoder.recycle(chunk);
+      }
+      progress(phase, transcoder.count, total);
+    }
+  } finally {
+    await csv.close();
   }
   transcoder.end();
   if (transcoder.count !== total) throw new Error(`re.csv holds ${transcoder.count} records where ${total} were written`);

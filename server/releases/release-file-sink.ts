@@ -50,6 +50,17 @@ export class HashingFileSink {
     await this.writeBytes(bytes);
   }
 
+  /** Appends bytes and resolves once they are written to the file: the caller may then reuse them. */
+  async writeThrough(bytes: Buffer): Promise<void> {
+    await this.flushText();
+    if (this.failure) throw this.failure;
+    this.hash.update(bytes);
+    this.size += bytes.length;
+    await new Promise<void>((resolve, reject) => {
+      this.file.write(bytes, (error) => (error ? reject(error) : resolve()));
+    });
+  }
+
   /** A Writable for writers that pipe (the workbook's zip stream). */
   asWritable(): Writable {
     return new Writable({

@@ -2,7 +2,7 @@ import type { Statement } from 'better-sqlite3';
 import { and, asc, eq, isNull } from 'drizzle-orm';
 import type { TidemarkDatabase } from '../db/database.js';
 import { auditEvents, dataLocks, studies } from '../db/schema.js';
-import type { EffortFacts, LockHead, SessionDetails, SessionHead, SignedReadHead, VerdictFacts } from './release-scope.js';
+import type { EffortFacts, FingerprintRow, LockHead, SessionDetails, SessionHead, SignedReadHead, VerdictFacts } from './release-scope.js';
 
 export type ReleaseStudyRow = typeof studies.$inferSelect;
 export type ReleaseAuditRow = typeof auditEvents.$inferSelect;
@@ -12,9 +12,9 @@ export class ReleaseRepository {
   private headsStatement: Statement | undefined;
   private sessionsStatement: Statement | undefined;
   private readsByIdStatement: Statement | undefined;
-  private readsStatement: Statement | undefined;
   private readHeadsStatement: Statement | undefined;
   private effortsStatement: Statement | undefined;
+  private fingerprintStatement: Statement | undefined;
   private effortCountsStatement: Statement | undefined;
   private effortCountStatement: Statement | undefined;
   private verdictsStatement: Statement | undefined;
@@ -102,16 +102,33 @@ export class ReleaseRepository {
   }
 
   /**
-   * Signed reads of the study's sessions, with the printed name of their signature; without
-   * their stored results (resultJson null) unless asked, as when only the fingerprint is wanted.
+   * Signed reads of the study's sessions, with the printed name of their signature, without their
+   * stored results (resultJson null): a study's results are read a batch at a time (signedReadsById).
    */
-  signedReads(studyId: string, withResults = true): SignedReadHead[] {
-    if (withResults) {
-      this.readsStatement ??= this.db.$client.prepare(signedReadsSql('r.result_json', 'r.study_id = ?'));
-      return this.readsStatement.all(studyId) as SignedReadHead[];
-    }
+  signedReads(studyId: string): SignedReadHead[] {
     this.readHeadsStatement ??= this.db.$client.prepare(signedReadsSql('null', 'r.study_id = ?'));
     return this.readHeadsStatement.all(studyId) as SignedReadHead[];
+  }
+
+  /**
+   * Every session of the study with each of its signed reads (a row with a null read when it has
+   * none), ordered by session id: what the data fingerprint is computed from, one row at a time.
+   */
+  *fingerprintRows(studyId: string): Generator<FingerprintRow> {
+    this.fingerprintStatement ??= this.db.$client.prepare(
+      `select s.id as sessionId, s.updated_at as updatedAt, s.status, s.site_id as siteId, visit.code as visitCode,
+              r.id as readId, r.kind, r.version, coalesce(r.signed_at, r.updated_at) as signedAt, r.upload_id as uploadId
+         from test_sessions s
+         join visits visit on visit.id = s.visit_id
+         left join reads r on r.session_id = s.id and r.status = 'signed'
+        where s.study_id = ?
+        order by s.id`,
+    );
+    type Row = Omit<FingerprintRow, 'read'> & { readId: string | null; kind: string; version: number; signedAt: string; uploadId: string };
+    for (const row of this.fingerprintStatement.iterate(studyId) as IterableIterator<Row>) {
+      const { readId, kind, version, signedAt, uploadId, ...session } = row;
+      yield { ...session, read: readId === null ? null : { id: readId, kind, version, signedAt, uploadId } };
+    }
   }
 
   /** The given reads, if still signed, with their stored results, by read id. */

@@ -12,6 +12,7 @@ import {
   finalReadOf,
   releaseBlockers,
   sessionsInScope,
+  type FingerprintRow,
   type LockHead,
   type SessionHead,
   type SignedReadHead,
@@ -117,12 +118,28 @@ describe('scope, order and fingerprint', () => {
     expect(sessionsInScope(sessions, { siteIds: null, visitCodes: ['V0'] }).map((s) => s.id)).toEqual(['e']);
   });
 
-  it('changes its fingerprint when a session or its final read changes, and only then', () => {
-    const sessions = [session('s1')];
-    const finals = new Map([['s1', read('r1', 's1', 'first', '2026-01-03')]]);
-    const fingerprint = dataFingerprint(sessions, finals);
-    expect(dataFingerprint([session('s1')], new Map(finals))).toBe(fingerprint);
-    expect(dataFingerprint([session('s1', { updatedAt: '2026-05-05' })], finals)).not.toBe(fingerprint);
-    expect(dataFingerprint(sessions, new Map([['s1', { ...read('r1', 's1', 'first', '2026-01-03'), version: 3 }]]))).not.toBe(fingerprint);
+  it('changes its fingerprint when a session in scope or its final read changes, and only then', () => {
+    const everything = { siteIds: null, visitCodes: null };
+    const row = (sessionId: string, overrides: Partial<FingerprintRow> = {}, signed: SignedReadHead | null = read('r1', sessionId, 'first', '2026-01-03')): FingerprintRow => ({
+      sessionId,
+      updatedAt: '2026-01-02T00:00:00.000Z',
+      status: 'final',
+      siteId: 'site-1',
+      visitCode: 'V1',
+      read: signed,
+      ...overrides,
+    });
+    const fingerprint = dataFingerprint([row('s1'), row('s2', {}, null)], everything);
+    expect(dataFingerprint([row('s1'), row('s2', {}, null)], everything)).toBe(fingerprint);
+    expect(dataFingerprint([row('s1', { updatedAt: '2026-05-05' }), row('s2', {}, null)], everything)).not.toBe(fingerprint);
+    expect(dataFingerprint([row('s1', {}, { ...read('r1', 's1', 'first', '2026-01-03'), version: 3 }), row('s2', {}, null)], everything)).not.toBe(fingerprint);
+    // A later second read is not the final read; a signed adjudication is.
+    expect(dataFingerprint([row('s1'), row('s1', {}, read('r2', 's1', 'second', '2026-01-04')), row('s2', {}, null)], everything)).toBe(fingerprint);
+    expect(dataFingerprint([row('s1'), row('s1', {}, read('r3', 's1', 'adjudication', '2026-01-05')), row('s2', {}, null)], everything)).not.toBe(fingerprint);
+    // A session outside the scope changes nothing; one inside does.
+    const siteOne = { siteIds: ['site-1'], visitCodes: null };
+    expect(dataFingerprint([row('s1'), row('s3', { siteId: 'site-2' })], siteOne)).toBe(dataFingerprint([row('s1')], siteOne));
+    expect(dataFingerprint([row('s1'), row('s3')], siteOne)).not.toBe(dataFingerprint([row('s1')], siteOne));
+    expect(() => dataFingerprint([row('s2'), row('s1')], everything)).toThrow('ordered by session id');
   });
 });

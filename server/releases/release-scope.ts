@@ -121,7 +121,7 @@ export function coveringLock(locks: readonly LockHead[], session: SessionHead): 
  * The final read of a final session: the signed adjudication read if there is one, else the
  * earliest signed read (as the site feedback takes it). Undefined while the session is not final.
  */
-export function finalReadOf(session: SessionHead, signedReads: readonly SignedReadHead[]): SignedReadHead | undefined {
+export function finalReadOf(session: Pick<SessionHead, 'status'>, signedReads: readonly SignedReadHead[]): SignedReadHead | undefined {
   if (session.status !== 'final') return undefined;
   const ordered = [...signedReads].sort((a, b) => compareText(a.signedAt, b.signedAt) || compareText(a.id, b.id));
   return ordered.find((read) => read.kind === 'adjudication') ?? ordered[0];
@@ -165,17 +165,43 @@ function plural(count: number, one: string, many: string): string {
   return `${count} ${count === 1 ? one : many}`;
 }
 
+/** A session of the study and one of its signed reads (null when it has none), as the fingerprint reads them. */
+export interface FingerprintRow {
+  readonly sessionId: string;
+  readonly updatedAt: string;
+  readonly status: string;
+  readonly siteId: string;
+  readonly visitCode: string;
+  readonly read: Pick<SignedReadHead, 'id' | 'kind' | 'version' | 'signedAt' | 'uploadId'> | null;
+}
+
 /**
- * SHA-256 over what the release is built from, in release order: each session with its last
- * change, and its final read with its version, time of signing and file. Any change to the
- * released data between the order and the files changes it.
+ * SHA-256 over what the release is built from: each session in scope with its last change, and
+ * its final read with its version, time of signing and file. Any change to the released data
+ * between the order and the files changes it. The rows come ordered by session id, a session's
+ * reads together, so that only one session is held at a time however large the study.
  */
-export function dataFingerprint(sessions: readonly SessionHead[], finalReads: ReadonlyMap<string, SignedReadHead>): string {
+export function dataFingerprint(rows: Iterable<FingerprintRow>, scope: ScopeFilter): string {
   const hash = createHash('sha256');
-  for (const session of sessions) {
-    const read = finalReads.get(session.id);
-    hash.update(`${session.id}|${session.updatedAt}|${read?.id ?? ''}|${read?.version ?? ''}|${read?.signedAt ?? ''}|${read?.uploadId ?? ''}\n`);
+  const sites = scope.siteIds ? new Set(scope.siteIds) : null;
+  const visits = scope.visitCodes ? new Set(scope.visitCodes) : null;
+  let current: FingerprintRow | undefined;
+  let reads: SignedReadHead[] = [];
+  const add = () => {
+    if (!current || (sites && !sites.has(current.siteId)) || (visits && !visits.has(current.visitCode))) return;
+    const read = finalReadOf({ status: current.status }, reads);
+    hash.update(`${current.sessionId}|${current.updatedAt}|${read?.id ?? ''}|${read?.version ?? ''}|${read?.signedAt ?? ''}|${read?.uploadId ?? ''}\n`);
+  };
+  for (const row of rows) {
+    if (row.sessionId !== current?.sessionId) {
+      if (current && row.sessionId < current.sessionId) throw new Error('The fingerprint needs its rows ordered by session id.');
+      add();
+      current = row;
+      reads = [];
+    }
+    if (row.read) reads.push({ ...row.read, sessionId: row.sessionId, resultJson: null, signerName: '' });
   }
+  add();
   return hash.digest('hex');
 }
 

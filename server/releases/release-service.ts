@@ -68,6 +68,8 @@ const BUILD_SHARE = 90;
 const STEP_WEIGHTS = { sessionTables: 1, effortTables: 4, transport: 1, workbook: 5 } as const;
 type BuildStep = keyof typeof STEP_WEIGHTS;
 const MANIFEST_FILE = 'manifest.json';
+/** Final reads whose stored results are checked at a time when a release is ordered. */
+const RESULT_CHECK_BATCH = 200;
 
 /** The locked data of a scope when a release is asked for. */
 interface Snapshot {
@@ -149,7 +151,7 @@ export class ReleaseService {
       scope,
       reason: request.reason || null,
       dataCutAt: this.clock().toISOString(),
-      dataFingerprint: dataFingerprint(snapshot.sessions, snapshot.finalReads),
+      dataFingerprint: this.fingerprintNow(studyId, scope),
       sessionCount: snapshot.sessions.length,
       requestedBy: { userId: principal.user.id, printedName: principal.user.name },
     };
@@ -526,23 +528,30 @@ export class ReleaseService {
   /** The scope's sessions with their locks and final reads (those with a stored result). */
   private snapshot(studyId: string, scope: ReleaseScope): Snapshot {
     const sessions = sessionsInScope(this.repository.sessionHeads(studyId), scope);
+    const chosen = [...this.finalReads(studyId, sessions)];
     const finalReads = new Map<string, SignedReadHead>();
-    for (const [sessionId, read] of this.finalReads(studyId, sessions, true)) {
-      // A signed read without its stored result is not a final read a release can use.
-      if (read.resultJson && readResultSchema.safeParse(JSON.parse(read.resultJson)).success) finalReads.set(sessionId, { ...read, resultJson: null });
+    // A batch of stored results at a time: a study's results at once would hold tens of megabytes.
+    for (let start = 0; start < chosen.length; start += RESULT_CHECK_BATCH) {
+      const batch = chosen.slice(start, start + RESULT_CHECK_BATCH);
+      const stored = this.repository.signedReadsById(batch.map(([, read]) => read.id));
+      for (const [sessionId, read] of batch) {
+        // A signed read without its stored result is not a final read a release can use.
+        const resultJson = stored.get(read.id)?.resultJson;
+        if (resultJson && readResultSchema.safeParse(JSON.parse(resultJson)).success) finalReads.set(sessionId, read);
+      }
     }
     return { sessions, locks: this.repository.activeLocks(studyId), finalReads };
   }
 
   /** The fingerprint of the scope's data now, to compare with the one the release was ordered with. */
   private fingerprintNow(studyId: string, scope: ReleaseScope): string {
-    const sessions = sessionsInScope(this.repository.sessionHeads(studyId), scope);
-    return dataFingerprint(sessions, this.finalReads(studyId, sessions, false));
+    return dataFingerprint(this.repository.fingerprintRows(studyId), scope);
   }
 
-  private finalReads(studyId: string, sessions: readonly SessionHead[], withResults: boolean): Map<string, SignedReadHead> {
+  /** Each session's final read, without its stored result. */
+  private finalReads(studyId: string, sessions: readonly SessionHead[]): Map<string, SignedReadHead> {
     const readsBySession = new Map<string, SignedReadHead[]>();
-    for (const read of this.repository.signedReads(studyId, withResults)) {
+    for (const read of this.repository.signedReads(studyId)) {
       const list = readsBySession.get(read.sessionId) ?? [];
       list.push(read);
       readsBySession.set(read.sessionId, list);

@@ -144,7 +144,9 @@ function padToRecord(bytes: Buffer): Buffer {
 
 /**
  * Encodes observations into chunks of about `chunkBytes`: {@link add} returns a full chunk when
- * one is ready, {@link finish} the rest with the blank padding of the last record.
+ * one is ready, {@link finish} the rest with the blank padding of the last record. A chunk handed
+ * back with {@link recycle} once written is filled again, so that a large file reuses a few
+ * buffers instead of leaving hundreds for the garbage collector.
  */
 export class XptObservationEncoder {
   /** Bytes of one observation. */
@@ -155,6 +157,8 @@ export class XptObservationEncoder {
   protected chunk: Buffer;
   protected used = 0;
   private total = 0;
+  /** Written chunks handed back, to be filled again. */
+  private readonly spare: Buffer[] = [];
 
   constructor(
     protected readonly variables: readonly XptVariable[],
@@ -205,9 +209,14 @@ export class XptObservationEncoder {
     this.total++;
     if (this.used + this.observationBytes <= this.chunk.length) return undefined;
     const full = this.chunk;
-    this.chunk = Buffer.alloc(full.length, 0x20);
+    this.chunk = this.spare.pop()?.fill(0x20) ?? Buffer.alloc(full.length, 0x20);
     this.used = 0;
     return full;
+  }
+
+  /** Hands back a chunk returned by {@link add} once its bytes are written (and no longer needed). */
+  recycle(chunk: Buffer): void {
+    if (chunk.length === this.chunk.length && chunk !== this.chunk && this.spare.length < 2) this.spare.push(chunk);
   }
 
   private encodeValue(variable: XptVariable, value: XptValue, offset: number): void {

@@ -6,8 +6,9 @@
  *
  * The synthetic study is written straight to the database first (not timed), then the release
  * runs in a fresh Node process on that data folder, so that its peak resident memory is the
- * release's and not the seeding's. The S3 fake, identity provider and mail catcher run inside
- * that process too, as they do for `npm start`.
+ * release's and not the seeding's. That process is the app as deployed on hosted services: the
+ * S3 fake, identity provider and mail catcher run in this (parent) process and the app reaches
+ * them through its configuration, as it would reach the hosted ones.
  */
 import { spawn } from 'node:child_process';
 import fs from 'node:fs';
@@ -21,7 +22,8 @@ import { ReleaseFixtureRepository } from '../../server/releases/release-fixture-
 import { syntheticLockedStudy } from '../../server/releases/release-fixtures.js';
 import { createReleaseService } from '../../server/releases/release-routes.js';
 import { startTidemark } from '../../server/runtime.js';
-import { DEMO_USERS } from '../../server/seed/demo-study.js';
+import { DEMO_PASSWORD, DEMO_USERS } from '../../server/seed/demo-study.js';
+import { serverLaunch } from '../support/server-launch.js';
 
 const EFFORTS = 100_000;
 const GOAL_SECONDS = 20;
@@ -30,6 +32,8 @@ const STUDY_ID = 'study-release-bench';
 const STUDY_CODE = 'BENCH-01';
 /** Set for the child process that runs the timed release. */
 const CHILD_DATA_DIR = 'TIDEMARK_RELEASE_BENCH_DATA_DIR';
+/** The services the child reaches, as a hosted deployment is configured. */
+const SERVICE_SETTINGS = ['TIDEMARK_S3_ENDPOINT', 'TIDEMARK_OIDC_ISSUER', 'TIDEMARK_SMTP_URL'] as const;
 
 /** What the child reports. */
 interface ReleaseMeasurement {
@@ -51,7 +55,31 @@ function configFor(dataDir: string) {
     TIDEMARK_SEED_DEMO_SESSIONS: 'false',
     TIDEMARK_WEB_DIR: path.join(dataDir, 'no-web-client'),
     LOG_LEVEL: 'silent',
+    ...Object.fromEntries(SERVICE_SETTINGS.flatMap((name) => (process.env[name] ? [[name, process.env[name]]] : []))),
   });
+}
+
+/** The three services the app uses, outside the measured process (stand-ins for the hosted ones). */
+async function startServices(dataDir: string): Promise<{ env: Record<(typeof SERVICE_SETTINGS)[number], string>; close(): Promise<void> }> {
+  // Imported here, not at the top: the measured process runs this module too and must not load them.
+  const { startStorageFake } = await import('../../storage-fake/s3-fake.js');
+  const { startFakeIdentityProvider } = await import('../../server/dev-fakes/identity-provider.js');
+  const { startMailCatcher } = await import('../../server/dev-fakes/mail-catcher.js');
+  const { storage: storageSettings, identity: identitySettings } = configFor(dataDir);
+  const storage = await startStorageFake({ port: 0, directory: path.join(dataDir, 'storage'), bucket: storageSettings.bucket });
+  const identity = await startFakeIdentityProvider({
+    port: 0,
+    accounts: DEMO_USERS.map((user) => ({ email: user.email, name: user.name, password: DEMO_PASSWORD })),
+    // Nobody signs in during the benchmark.
+    client: { clientId: identitySettings.clientId, clientSecret: identitySettings.clientSecret, redirectUris: ['http://127.0.0.1/auth/callback'] },
+  });
+  const mail = await startMailCatcher({ port: 0 });
+  return {
+    env: { TIDEMARK_S3_ENDPOINT: storage.endpoint, TIDEMARK_OIDC_ISSUER: identity.issuer, TIDEMARK_SMTP_URL: mail.smtpUrl },
+    close: async () => {
+      await Promise.all([storage.close(), identity.close(), mail.close()]);
+    },
+  };
 }
 
 /** Writes the demo study (for its users) and the synthetic locked study into a new data folder. */
@@ -133,16 +161,18 @@ export async function releaseBenchmarkRows(format: (value: number, digits?: numb
   const dataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'tidemark-release-bench-'));
   try {
     await seed(dataDir);
+    const services = await startServices(dataDir);
+    const launch = serverLaunch();
     const output = await new Promise<string>((resolve, reject) => {
-      const child = spawn(process.execPath, ['--import', 'tsx', fileURLToPath(import.meta.url)], {
-        env: { ...process.env, [CHILD_DATA_DIR]: dataDir, AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED: 'true' },
+      const child = spawn(process.execPath, [...launch.flags, '--import', 'tsx', fileURLToPath(import.meta.url)], {
+        env: { ...process.env, ...launch.env, ...services.env, [CHILD_DATA_DIR]: dataDir, AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED: 'true' },
         stdio: ['ignore', 'pipe', 'inherit'],
       });
       let text = '';
       child.stdout.on('data', (chunk: Buffer) => (text += chunk.toString('utf8')));
       child.on('error', reject);
       child.on('exit', (code) => (code === 0 ? resolve(text) : reject(new Error(`the release benchmark process exited with ${code}`))));
-    });
+    }).finally(() => services.close());
     const measured = JSON.parse(output.trim().split('\n').at(-1)!) as ReleaseMeasurement;
     const mb = (bytes: number) => bytes / 1e6;
     const sizes = measured.files.map((file) => `${file.name} ${format(mb(file.sizeBytes), 1)}`).join(', ');
@@ -154,7 +184,7 @@ export async function releaseBenchmarkRows(format: (value: number, digits?: numb
         `${format(measured.elapsedS / GOAL_SECONDS, 2)} of goal; files (MB): ${sizes}`,
       ],
       [
-        '  peak RSS of the process during that release (app, S3 fake, workbook thread)',
+        '  peak RSS of the app process during that release (with its workbook thread; storage, identity provider and mail outside it, as hosted)',
         `${format(mb(measured.peakRss))} MB`,
         `< ${GOAL_PEAK_MB} MB`,
         `${format(mb(measured.peakRss) / GOAL_PEAK_MB, 2)} of goal (baseline: RSS of the started app before the release, ${format(mb(measured.baselineRss))} MB)`,

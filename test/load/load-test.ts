@@ -38,6 +38,7 @@ import type { Schedule, SessionPage } from '../../shared/contracts/sessions.js';
 import { SESSION_DOCUMENT_FORMAT, recordingToSessionEffort } from '../../shared/spirometry/session-document.js';
 import { generateSession } from '../../shared/spirometry/synthetic/curve-generator.js';
 import { formatNumber, markdownTable, percentile, type BenchRow, type NumberFormat } from '../bench/bench-report.js';
+import { serverLaunch } from '../support/server-launch.js';
 
 const GOAL_P95_MS = 200;
 const CONNECTIONS = 100;
@@ -115,9 +116,13 @@ function positiveSeconds(name: string, fallback: number): number {
   return value;
 }
 
-/** Starts `server/main.ts` on a fresh data folder and returns its URL once it prints it. */
+/** Starts `server/main.ts` as `npm start` does, on a fresh data folder, and returns its URL once it prints it. */
 async function startServer(env: NodeJS.ProcessEnv): Promise<{ url: string; child: ChildProcess }> {
-  const child = spawn(process.execPath, ['--import', 'tsx', 'server/main.ts'], { env, stdio: ['ignore', 'pipe', 'pipe'] });
+  const launch = serverLaunch();
+  const child = spawn(process.execPath, [...launch.flags, '--import', 'tsx', 'server/main.ts'], {
+    env: { ...launch.env, ...env },
+    stdio: ['ignore', 'pipe', 'pipe'],
+  });
   let errors = '';
   child.stderr!.on('data', (chunk: Buffer) => (errors = (errors + chunk.toString('utf8')).slice(-4000)));
   for await (const line of createInterface({ input: child.stdout! })) {
