@@ -107,6 +107,25 @@ describe('a transport file read back with xport-js', () => {
     expect(rows).toEqual(many);
   });
 
+  it('writes the same bytes when each written chunk is handed back to be filled again', () => {
+    const many: XptValue[][] = Array.from({ length: 500 }, (_unused, i) => ['S', `SUBJ-${i}`, i, i % 2 ? 'FEV1' : 'FVC', i % 5 ? 'short' : '', i / 7, 'x']);
+    const encoder = new XptObservationEncoder(DATASET.variables, 1000);
+    const written: Buffer[] = [];
+    const seen = new Set<Buffer>();
+    for (const row of many) {
+      const chunk = encoder.add(row);
+      if (!chunk) continue;
+      seen.add(chunk);
+      written.push(Buffer.from(chunk));
+      encoder.recycle(chunk);
+    }
+    written.push(encoder.finish());
+    expect(Buffer.concat([xptHeader(DATASET), ...written]).equals(writeXpt(DATASET, many))).toBe(true);
+    // Far fewer buffers than chunks: the recycled ones were filled again.
+    expect(written.length).toBeGreaterThan(20);
+    expect(seen.size).toBeLessThanOrEqual(3);
+  });
+
   it('gives back the header fields: SAS symbols, library and date', async () => {
     const { header } = await readBack(writeFile('header.xpt', writeXpt(DATASET, ROWS)));
     expect(header).toMatchObject({ sasSymbol: ['SAS', 'SAS'], sasLib: 'SASLIB', sasCreate: '20NOV26:08:30:05', sasModified: '20NOV26:08:30:05' });
