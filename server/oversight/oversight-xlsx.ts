@@ -1,4 +1,4 @@
-import ExcelJS from 'exceljs';
+import type ExcelJS from 'exceljs';
 import {
   PERFORMANCE_CAUTION,
   type ReaderPerformanceReport,
@@ -80,7 +80,9 @@ const READER_COLUMNS: readonly Column<ReaderRow>[] = [
 
 /** The site and reader dashboards as an xlsx workbook: one sheet each, and a readme with the caution. */
 export async function performanceWorkbook(data: PerformanceExport): Promise<Buffer> {
-  const workbook = new ExcelJS.Workbook();
+  // exceljs is loaded at the first workbook, not at start: the server needs it only then.
+  const { default: excel } = await import('exceljs');
+  const workbook = new excel.Workbook();
   workbook.creator = 'Tidemark';
   workbook.created = new Date(data.sites.generatedAt);
 

@@ -1,4 +1,4 @@
-import ExcelJS from 'exceljs';
+import type ExcelJS from 'exceljs';
 import type { ReferenceParameter } from '../../shared/spirometry/model.js';
 import { SpirometryInputError } from '../../shared/spirometry/model.js';
 import { GLI_GLOBAL_2022_DEFINITION } from '../../shared/spirometry/reference/gli-global-2022.js';
@@ -124,7 +124,9 @@ function readSheet(sheet: ExcelJS.Worksheet, file: string, lastAgeYears: number)
  * and L equations written as text. Throws {@link SpirometryInputError} naming sheet and row.
  */
 export async function parseGliGlobalWorkbook(buffer: Buffer | Uint8Array, file = 'lookup-tables.xlsx'): Promise<GliLookupSet> {
-  const workbook = new ExcelJS.Workbook();
+  // exceljs is loaded at the first workbook, not at start: the server needs it only then.
+  const { default: excel } = await import('exceljs');
+  const workbook = new excel.Workbook();
   try {
     await workbook.xlsx.load(Buffer.from(buffer) as unknown as ExcelJS.Buffer);
   } catch (error) {

@@ -5,7 +5,7 @@
  * number in every cell the equations read. The parsers in this folder stop at the first problem;
  * they run afterwards, on a file these checks passed, to build the equations.
  */
-import ExcelJS from 'exceljs';
+import type ExcelJS from 'exceljs';
 import type { ReferenceSetCheck } from '../../shared/contracts/reference-sets.js';
 import type { ReferenceParameter } from '../../shared/spirometry/model.js';
 import { SpirometryInputError } from '../../shared/spirometry/model.js';
@@ -160,7 +160,9 @@ function sheetLabel(sex: Sex, parameter: ReferenceParameter): string {
  * equations written beside the table.
  */
 export async function checkGliGlobalWorkbook(findings: Findings, bytes: Buffer, file: string): Promise<void> {
-  const workbook = new ExcelJS.Workbook();
+  // exceljs is loaded at the first workbook, not at start: the server needs it only then.
+  const { default: excel } = await import('exceljs');
+  const workbook = new excel.Workbook();
   try {
     await workbook.xlsx.load(bytes as unknown as ExcelJS.Buffer);
   } catch (error) {

@@ -14,7 +14,8 @@ export class ReleaseRepository {
   private readsByIdStatement: Statement | undefined;
   private readHeadsStatement: Statement | undefined;
   private effortsStatement: Statement | undefined;
-  private fingerprintStatement: Statement | undefined;
+  private fingerprintReadsStatement: Statement | undefined;
+  private fingerprintSessionsStatement: Statement | undefined;
   private effortCountsStatement: Statement | undefined;
   private effortCountStatement: Statement | undefined;
   private verdictsStatement: Statement | undefined;
@@ -112,22 +113,33 @@ export class ReleaseRepository {
 
   /**
    * Every session of the study with each of its signed reads (a row with a null read when it has
-   * none), ordered by session id: what the data fingerprint is computed from, one row at a time.
+   * none), ordered by session id: what the data fingerprint is computed from. Sessions come one
+   * at a time; the reads' few columns are read first, in one pass (a join would look up the reads
+   * session by session, several times slower).
    */
   *fingerprintRows(studyId: string): Generator<FingerprintRow> {
-    this.fingerprintStatement ??= this.db.$client.prepare(
-      `select s.id as sessionId, s.updated_at as updatedAt, s.status, s.site_id as siteId, visit.code as visitCode,
-              r.id as readId, r.kind, r.version, coalesce(r.signed_at, r.updated_at) as signedAt, r.upload_id as uploadId
+    this.fingerprintReadsStatement ??= this.db.$client.prepare(
+      `select session_id as sessionId, id, kind, version, coalesce(signed_at, updated_at) as signedAt, upload_id as uploadId
+         from reads where study_id = ? and status = 'signed'`,
+    );
+    this.fingerprintSessionsStatement ??= this.db.$client.prepare(
+      `select s.id as sessionId, s.updated_at as updatedAt, s.status, s.site_id as siteId, visit.code as visitCode
          from test_sessions s
          join visits visit on visit.id = s.visit_id
-         left join reads r on r.session_id = s.id and r.status = 'signed'
         where s.study_id = ?
         order by s.id`,
     );
-    type Row = Omit<FingerprintRow, 'read'> & { readId: string | null; kind: string; version: number; signedAt: string; uploadId: string };
-    for (const row of this.fingerprintStatement.iterate(studyId) as IterableIterator<Row>) {
-      const { readId, kind, version, signedAt, uploadId, ...session } = row;
-      yield { ...session, read: readId === null ? null : { id: readId, kind, version, signedAt, uploadId } };
+    type ReadRow = NonNullable<FingerprintRow['read']> & { sessionId: string };
+    const readsBySession = new Map<string, ReadRow[]>();
+    for (const read of this.fingerprintReadsStatement.all(studyId) as ReadRow[]) {
+      const list = readsBySession.get(read.sessionId);
+      if (list) list.push(read);
+      else readsBySession.set(read.sessionId, [read]);
+    }
+    for (const session of this.fingerprintSessionsStatement.iterate(studyId) as IterableIterator<Omit<FingerprintRow, 'read'>>) {
+      const reads = readsBySession.get(session.sessionId);
+      if (!reads) yield { ...session, read: null };
+      else for (const { sessionId: _session, ...read } of reads) yield { ...session, read };
     }
   }
 

@@ -92,6 +92,25 @@ interface Job {
   done: Promise<void>;
 }
 
+/**
+ * The data fingerprint of a snapshot every session of which has its final read (no blockers): what
+ * {@link ReleaseService.fingerprintNow} gives at that moment, without reading the data again.
+ */
+function snapshotFingerprint(snapshot: Snapshot, scope: ReleaseScope): string {
+  const byId = [...snapshot.sessions].sort((a, b) => (a.id < b.id ? -1 : a.id > b.id ? 1 : 0));
+  return dataFingerprint(
+    byId.map((session) => ({
+      sessionId: session.id,
+      updatedAt: session.updatedAt,
+      status: session.status,
+      siteId: session.siteId,
+      visitCode: session.visitCode,
+      read: snapshot.finalReads.get(session.id) ?? null,
+    })),
+    scope,
+  );
+}
+
 export class ReleaseService {
   private readonly jobs = new Map<string, Job>();
 
@@ -151,7 +170,7 @@ export class ReleaseService {
       scope,
       reason: request.reason || null,
       dataCutAt: this.clock().toISOString(),
-      dataFingerprint: this.fingerprintNow(studyId, scope),
+      dataFingerprint: snapshotFingerprint(snapshot, scope),
       sessionCount: snapshot.sessions.length,
       requestedBy: { userId: principal.user.id, printedName: principal.user.name },
     };

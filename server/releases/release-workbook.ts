@@ -14,7 +14,7 @@ import { HashingFileSink } from './release-file-sink.js';
 import type { CellValue, ReleaseColumn } from './release-model.js';
 import type { StoredDigest } from './release-store.js';
 import { EFFORTS_TABLE, READS_TABLE, SESSIONS_TABLE } from './release-tables.js';
-import { ReleaseWorkbook, type WorkbookTable } from './release-xlsx.js';
+import type { WorkbookTable } from './release-xlsx.js';
 import { RE_COLUMNS } from './sdtm-re.js';
 
 /** A sheet with the types of its columns, to read its CSV fields back as cells. */
@@ -85,6 +85,8 @@ export async function writeWorkbookFile(
   filePath: string,
   rowsWritten: (rows: number) => void,
 ): Promise<StoredDigest> {
+  // exceljs is loaded here, on the thread that writes the workbook, not by the server at start.
+  const { ReleaseWorkbook } = await import('./release-xlsx.js');
   const sink = new HashingFileSink(filePath);
   const workbook = new ReleaseWorkbook(sink.asWritable(), new Date(context.dataAsOf));
   workbook.writeReadme({
