@@ -20,18 +20,12 @@ import { UserRepository } from '../../server/users/user-repository.js';
 import type { Schedule, SessionDetail } from '../../shared/contracts/sessions.js';
 import { SESSION_DOCUMENT_FORMAT, recordingToSessionEffort } from '../../shared/spirometry/session-document.js';
 import { generateSession } from '../../shared/spirometry/synthetic/curve-generator.js';
-import { startTidemarkForTest } from '../support/tidemark-under-test.js';
+import { startTidemarkForTest, throwAwayInstanceEnv } from '../support/tidemark-under-test.js';
 
 const dataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'tidemark-crash-'));
 const childEnv = {
   ...process.env,
-  PORT: '0',
-  TIDEMARK_DATA_DIR: dataDir,
-  TIDEMARK_FAKE_S3_PORT: '0',
-  TIDEMARK_FAKE_IDP_PORT: '0',
-  TIDEMARK_FAKE_SMTP_PORT: '0',
-  TIDEMARK_WEB_DIR: path.join(dataDir, 'no-web-client'),
-  LOG_LEVEL: 'silent',
+  ...throwAwayInstanceEnv(dataDir),
 };
 let child: ChildProcess | undefined;
 

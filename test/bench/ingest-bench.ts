@@ -23,6 +23,7 @@ import type { Schedule, SessionDetail } from '../../shared/contracts/sessions.js
 import { SESSION_DOCUMENT_FORMAT, recordingToSessionEffort } from '../../shared/spirometry/session-document.js';
 import { generateSession } from '../../shared/spirometry/synthetic/curve-generator.js';
 import { percentile, type BenchRow, type NumberFormat } from './bench-report.js';
+import { throwAwayInstanceEnv } from '../support/tidemark-under-test.js';
 
 /** Goal for ingest throughput on a 2-core machine. */
 const GOAL_SESSIONS_PER_S = 200;
@@ -59,16 +60,10 @@ export async function ingestBenchmarkRows(format: NumberFormat): Promise<BenchRo
   process.env['AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED'] ??= 'true';
   const dataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'tidemark-bench-'));
   const config = loadConfig({
-    PORT: '0',
-    TIDEMARK_DATA_DIR: dataDir,
-    TIDEMARK_FAKE_S3_PORT: '0',
-    TIDEMARK_FAKE_IDP_PORT: '0',
-    TIDEMARK_FAKE_SMTP_PORT: '0',
+    ...throwAwayInstanceEnv(dataDir),
     TIDEMARK_SEED_DEMO_SESSIONS: 'false',
     // One coordinator sends hundreds of files a minute here; the per-user upload limit is not what is measured.
     TIDEMARK_UPLOAD_RATE_PER_MINUTE: '1000000',
-    TIDEMARK_WEB_DIR: path.join(dataDir, 'no-web-client'),
-    LOG_LEVEL: 'silent',
   });
   const running = await startTidemark(config, { logger: pino({ level: 'silent' }) });
   try {

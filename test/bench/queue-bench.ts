@@ -20,6 +20,7 @@ import { startTidemark } from '../../server/runtime.js';
 import { DEMO_STUDY, DEMO_USERS } from '../../server/seed/demo-study.js';
 import { seedDemoStudy } from '../../server/seed/demo-seed.js';
 import { UserRepository } from '../../server/users/user-repository.js';
+import { throwAwayInstanceEnv } from '../support/tidemark-under-test.js';
 
 const EXTRA_SESSIONS = 100_000;
 const GOAL_P95_MS = 20;
@@ -44,16 +45,7 @@ function percentile(sorted: readonly number[], p: number): number {
 }
 
 function configFor(dataDir: string, seedDemoSessions: boolean) {
-  return loadConfig({
-    PORT: '0',
-    TIDEMARK_DATA_DIR: dataDir,
-    TIDEMARK_FAKE_S3_PORT: '0',
-    TIDEMARK_FAKE_IDP_PORT: '0',
-    TIDEMARK_FAKE_SMTP_PORT: '0',
-    TIDEMARK_SEED_DEMO_SESSIONS: String(seedDemoSessions),
-    TIDEMARK_WEB_DIR: path.join(dataDir, 'no-web-client'),
-    LOG_LEVEL: 'silent',
-  });
+  return loadConfig({ ...throwAwayInstanceEnv(dataDir), TIDEMARK_SEED_DEMO_SESSIONS: String(seedDemoSessions) });
 }
 
 /** Starts the app on `dataDir` and times the reader's queue through HTTP, after a few warm-up calls. */

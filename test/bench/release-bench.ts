@@ -24,6 +24,7 @@ import { createReleaseService } from '../../server/releases/release-routes.js';
 import { startTidemark } from '../../server/runtime.js';
 import { DEMO_PASSWORD, DEMO_USERS } from '../../server/seed/demo-study.js';
 import { serverLaunch } from '../support/server-launch.js';
+import { throwAwayInstanceEnv } from '../support/tidemark-under-test.js';
 
 const EFFORTS = 100_000;
 const GOAL_SECONDS = 20;
@@ -47,14 +48,8 @@ interface ReleaseMeasurement {
 
 function configFor(dataDir: string) {
   return loadConfig({
-    PORT: '0',
-    TIDEMARK_DATA_DIR: dataDir,
-    TIDEMARK_FAKE_S3_PORT: '0',
-    TIDEMARK_FAKE_IDP_PORT: '0',
-    TIDEMARK_FAKE_SMTP_PORT: '0',
+    ...throwAwayInstanceEnv(dataDir),
     TIDEMARK_SEED_DEMO_SESSIONS: 'false',
-    TIDEMARK_WEB_DIR: path.join(dataDir, 'no-web-client'),
-    LOG_LEVEL: 'silent',
     ...Object.fromEntries(SERVICE_SETTINGS.flatMap((name) => (process.env[name] ? [[name, process.env[name]]] : []))),
   });
 }

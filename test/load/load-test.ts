@@ -39,6 +39,7 @@ import { SESSION_DOCUMENT_FORMAT, recordingToSessionEffort } from '../../shared/
 import { generateSession } from '../../shared/spirometry/synthetic/curve-generator.js';
 import { formatNumber, markdownTable, percentile, type BenchRow, type NumberFormat } from '../bench/bench-report.js';
 import { serverLaunch } from '../support/server-launch.js';
+import { throwAwayInstanceEnv } from '../support/tidemark-under-test.js';
 
 const GOAL_P95_MS = 200;
 const CONNECTIONS = 100;
@@ -419,13 +420,7 @@ export async function runLoadTest(seconds = positiveSeconds('TIDEMARK_LOAD_SECON
   const dataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'tidemark-load-'));
   const env: NodeJS.ProcessEnv = {
     ...process.env,
-    PORT: '0',
-    TIDEMARK_DATA_DIR: dataDir,
-    TIDEMARK_FAKE_S3_PORT: '0',
-    TIDEMARK_FAKE_IDP_PORT: '0',
-    TIDEMARK_FAKE_SMTP_PORT: '0',
-    TIDEMARK_WEB_DIR: path.join(dataDir, 'no-web-client'),
-    LOG_LEVEL: 'silent',
+    ...throwAwayInstanceEnv(dataDir),
     AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED: 'true',
   };
   try {

@@ -37,6 +37,7 @@ import { SESSION_DOCUMENT_FORMAT, recordingToSessionEffort } from '../../shared/
 import { generateSession } from '../../shared/spirometry/synthetic/curve-generator.js';
 import { SeededRandom } from '../../shared/spirometry/synthetic/seeded-random.js';
 import { startStorageFake, type StorageFake } from '../../storage-fake/s3-fake.js';
+import { throwAwayInstanceEnv } from '../support/tidemark-under-test.js';
 
 const ROUNDS = positiveInteger('TIDEMARK_CRASH_ROUNDS', 3);
 const SEED = positiveInteger('TIDEMARK_CRASH_SEED', 20_261_102);
@@ -98,17 +99,12 @@ beforeAll(async () => {
   storageFake = await startStorageFake({ port: 0, directory: path.join(dataDir, 'storage'), bucket: 'tidemark-uploads' });
   childEnv = {
     ...process.env,
-    PORT: '0',
-    TIDEMARK_DATA_DIR: dataDir,
+    ...throwAwayInstanceEnv(dataDir),
     TIDEMARK_S3_ENDPOINT: storageFake.endpoint,
     TIDEMARK_S3_BUCKET: 'tidemark-uploads',
-    TIDEMARK_FAKE_IDP_PORT: '0',
-    TIDEMARK_FAKE_SMTP_PORT: '0',
     TIDEMARK_SEED_DEMO_SESSIONS: 'false',
     // The burst sends far more files a minute than one coordinator would; the limit is not under test here.
     TIDEMARK_UPLOAD_RATE_PER_MINUTE: '1000000',
-    TIDEMARK_WEB_DIR: path.join(dataDir, 'no-web-client'),
-    LOG_LEVEL: 'silent',
     AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED: 'true',
   };
   const config = loadConfig(childEnv);

@@ -9,13 +9,12 @@ import { DEMO_PASSWORD } from '../../server/seed/demo-study.js';
 // The AWS SDK version is pinned, so its notice about future Node requirements is noise here.
 process.env['AWS_SDK_JS_NODE_VERSION_SUPPORT_WARNING_DISABLED'] ??= 'true';
 
-/** Starts the real app with real local fakes on loopback ports chosen by the OS, in a throw-away data folder. */
-export async function startTidemarkForTest(
-  env: Record<string, string> = {},
-  options: { clock?: () => Date; dataDir?: string; keepData?: boolean } = {},
-): Promise<RunningTidemark & { dataDir: string }> {
-  const dataDir = options.dataDir ?? fs.mkdtempSync(path.join(os.tmpdir(), 'tidemark-test-'));
-  const config = loadConfig({
+/**
+ * Settings of a throw-away instance: its own data folder, no web client, no log, and every port
+ * (the app's and its local fakes') chosen by the OS.
+ */
+export function throwAwayInstanceEnv(dataDir: string): Record<string, string> {
+  return {
     PORT: '0',
     TIDEMARK_DATA_DIR: dataDir,
     TIDEMARK_FAKE_S3_PORT: '0',
@@ -23,8 +22,16 @@ export async function startTidemarkForTest(
     TIDEMARK_FAKE_SMTP_PORT: '0',
     TIDEMARK_WEB_DIR: path.join(dataDir, 'no-web-client'),
     LOG_LEVEL: 'silent',
-    ...env,
-  });
+  };
+}
+
+/** Starts the real app with real local fakes on loopback ports chosen by the OS, in a throw-away data folder. */
+export async function startTidemarkForTest(
+  env: Record<string, string> = {},
+  options: { clock?: () => Date; dataDir?: string; keepData?: boolean } = {},
+): Promise<RunningTidemark & { dataDir: string }> {
+  const dataDir = options.dataDir ?? fs.mkdtempSync(path.join(os.tmpdir(), 'tidemark-test-'));
+  const config = loadConfig({ ...throwAwayInstanceEnv(dataDir), ...env });
   const running = await startTidemark(config, { logger: pino({ level: 'silent' }), clock: options.clock });
   return {
     ...running,
